@@ -1,0 +1,325 @@
+"""Load the rules: ``rules/default.yaml`` merged with an optional user file, every value checked.
+
+The rules file is YAML read with ``yaml.safe_load`` (``CONTRACT.md``, section "Rules file").
+Its top level holds sections: the core sections of :data:`CORE_KEYS` and one section per
+detector, named after the detector's ``NAME`` and described by its ``RULE_KEYS``. Each key
+is described by ``(type, minimum, maximum)``; a bound of None means unbounded.
+
+Checks, for the defaults and the user file alike:
+
+- the file exists, is UTF-8 text and YAML (the error names the line);
+- the top level and each section are mappings (an empty section is allowed in a user file);
+- every section and key is known (the error gives the dotted path and the closest valid key);
+- every value has the right type: a whole number is accepted where a float is expected,
+  ``true``/``false`` are never numbers, quoted text is never a number; a float is never
+  accepted where a whole number is expected;
+- numbers are finite and inside ``[minimum, maximum]``;
+- the ranking weights are not all zero (the score divides by their sum).
+
+The defaults must also hold every key; a user file overrides any subset. Float keys come
+back as ``float`` even when written as whole numbers. The defaults are never changed: each
+call returns a fresh dict.
+"""
+from __future__ import annotations
+
+import copy
+import difflib
+import hashlib
+import math
+import pathlib
+from typing import Any, Mapping
+
+import yaml
+
+from pitfalls.errors import PitfallsInputError
+
+KeySpec = tuple  # (type, minimum or None, maximum or None)
+
+CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
+    "velocity": {
+        # Sound speed in water: about 1400 m/s in cold fresh water to about 1550 m/s in warm
+        # salt water (Mackenzie 1981 sound-speed equation); a margin either side.
+        "water_velocity_m_s": (float, 1400.0, 1600.0),
+        # Unconsolidated mud near 1450 m/s up to cemented carbonate seafloors (common practice).
+        "seafloor_velocity_m_s": (float, 1400.0, 4000.0),
+        # 0 gives a constant sediment velocity; Hamilton (1979) gradients stay below a few /s.
+        "gradient_per_s": (float, 0.0, 5.0),
+        # Up to crystalline basement and salt-free carbonate velocities (common practice).
+        "max_velocity_m_s": (float, 1400.0, 7000.0),
+    },
+    "section": {
+        # Post-stack bins lie between a few metres (site surveys) and 100 m (regional 2-D).
+        "fallback_trace_spacing_m": (float, 1.0, 500.0),
+    },
+    "seafloor": {
+        # Up to the longest records (common practice: deep-water records rarely exceed 20 s).
+        "search_max_ms": (float, 100.0, 30000.0),
+        # A fraction of the trace's strongest envelope; 0 would take the first noise sample.
+        "onset_fraction": (float, 0.01, 1.0),
+        "lobe_window_ms": (float, 1.0, 500.0),
+        "late_start_ms": (float, 0.0, 10000.0),
+        "continuity_traces": (int, 1, 1001),
+        "max_jump_ms": (float, 0.1, 1000.0),
+        "snap_ms": (float, 0.0, 100.0),
+    },
+    "ranking": {
+        # Relative weights of the score; only their ratios matter.
+        "weight_severity": (float, 0.0, 1.0),
+        "weight_confidence": (float, 0.0, 1.0),
+        "weight_extent": (float, 0.0, 1.0),
+    },
+}
+
+_TYPE_WORDS = {float: "a number", int: "a whole number", bool: "true or false", str: "text"}
+
+
+def default_rules_path() -> pathlib.Path:
+    """``rules/default.yaml`` at the top of the repository."""
+    return pathlib.Path(__file__).resolve().parents[2] / "rules" / "default.yaml"
+
+
+def load_rules(path: str | None, detector_keys: Mapping[str, Mapping[str, KeySpec]],
+               defaults_path: str | pathlib.Path | None = None) -> tuple[dict, str, str]:
+    """Defaults merged with the user's rules file, every value checked.
+
+    Parameters
+    ----------
+    path : str or None
+        The user's rules file; None to use the defaults alone.
+    detector_keys : Mapping
+        Detector ``NAME`` -> its ``RULE_KEYS`` (key -> ``(type, minimum, maximum)``).
+    defaults_path : str or pathlib.Path, optional
+        The defaults file; :func:`default_rules_path` when not given.
+
+    Returns
+    -------
+    rules : dict
+        A fresh nested dict: section -> key -> value.
+    used_path : str
+        The user's file as given, or the defaults file.
+    sha256 : str
+        Hex SHA-256 of the bytes of ``used_path``.
+
+    Raises
+    ------
+    PitfallsInputError
+        For an unreadable or invalid file (the defaults included), naming the file, the
+        line or the dotted key, and the fix.
+    """
+    clash = set(CORE_KEYS) & set(detector_keys)
+    if clash:
+        raise ValueError(f"detector names clash with core rules sections: {sorted(clash)}")
+    schema: dict[str, Mapping[str, KeySpec]] = {**CORE_KEYS, **detector_keys}
+    defaults_file = str(pathlib.Path(defaults_path) if defaults_path is not None else default_rules_path())
+    default_bytes, default_document = _read_yaml(defaults_file, is_default=True)
+    rules = _checked(defaults_file, default_document, schema, is_default=True)
+    _check_combinations(defaults_file, rules, is_default=True)
+    if path is None:
+        return rules, defaults_file, hashlib.sha256(default_bytes).hexdigest()
+    path = str(path)
+    user_bytes, user_document = _read_yaml(path, is_default=False)
+    overrides = _checked(path, user_document, schema, is_default=False)
+    for section, values in overrides.items():
+        rules[section].update(values)
+    _check_combinations(path, rules, is_default=False)
+    return rules, path, hashlib.sha256(user_bytes).hexdigest()
+
+
+def render_rules(rules: Mapping[str, Any]) -> str:
+    """The rules as YAML text, sections and keys in their stored order."""
+    plain = {section: dict(values) for section, values in rules.items()}
+    return yaml.safe_dump(plain, sort_keys=False, default_flow_style=False, allow_unicode=True)
+
+
+# --- reading ----------------------------------------------------------------------------
+def _default_fix(is_default: bool, fix: str) -> str:
+    if is_default:
+        return f"the shipped defaults are damaged: restore rules/default.yaml from the repository ({fix})"
+    return fix
+
+
+def _read_yaml(path: str, is_default: bool) -> tuple[bytes, Any]:
+    try:
+        with open(path, "rb") as handle:
+            raw = handle.read()
+    except FileNotFoundError as err:
+        raise PitfallsInputError(path, "", "rules file not found",
+                                 fix=_default_fix(is_default, "check the path and the file name")) from err
+    except IsADirectoryError as err:
+        raise PitfallsInputError(path, "", "this is a folder, not a rules file",
+                                 fix=_default_fix(is_default, "give the path of the YAML file")) from err
+    except OSError as err:
+        raise PitfallsInputError(path, "", f"rules file cannot be read ({err.strerror or err})",
+                                 fix=_default_fix(is_default, "check that you may read the file")) from err
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as err:
+        line = raw[: err.start].count(b"\n") + 1
+        raise PitfallsInputError(path, f"line {line}", f"byte {err.start} is not UTF-8 text",
+                                 fix=_default_fix(is_default, "save the rules file as UTF-8 text")) from err
+    try:
+        document = yaml.safe_load(text)
+    except yaml.MarkedYAMLError as err:
+        mark = err.problem_mark or err.context_mark
+        where = f"line {mark.line + 1}" if mark is not None else ""
+        problem = " ".join(part for part in (err.context, err.problem) if part) or "not valid YAML"
+        raise PitfallsInputError(path, where, f"not valid YAML: {problem}",
+                                 fix=_default_fix(is_default, "check the indentation and the colons "
+                                                  "(key: value, two spaces under each section)")) from err
+    except yaml.YAMLError as err:
+        position = getattr(err, "position", None)
+        where = f"line {text[:position].count(chr(10)) + 1}" if isinstance(position, int) else ""
+        raise PitfallsInputError(path, where, "not valid YAML: the text holds a character YAML does not allow",
+                                 fix=_default_fix(is_default, "remove control characters from the file")) from err
+    except (ValueError, KeyError, TypeError, OverflowError) as err:
+        # PyYAML's constructors let built-in errors escape for bad explicit tags such as `!!int abc`.
+        raise PitfallsInputError(path, "", f"not valid YAML: a tagged value cannot be read ({err})",
+                                 fix=_default_fix(is_default, "remove the !! tags and write plain values")) from err
+    except RecursionError as err:
+        raise PitfallsInputError(path, "", "not valid rules: the YAML is nested too deeply",
+                                 fix=_default_fix(is_default, "write sections of key: value pairs")) from err
+    return raw, document
+
+
+# --- checking ---------------------------------------------------------------------------
+def _suggestion(name: str, schema: Mapping[str, Mapping[str, KeySpec]], section: str | None) -> str:
+    """A 'did you mean' hint: the closest key in the section, or the same key elsewhere."""
+    if section is None:
+        homes = [f"{other}.{name}" for other, keys in schema.items() if name in keys]
+        if homes:
+            return f"this key belongs under a section: write it as {homes[0]}"
+        close = difflib.get_close_matches(name, list(schema), n=1, cutoff=0.6)
+        if close:
+            return f"did you mean '{close[0]}'?"
+        return f"valid sections are {', '.join(schema)}"
+    keys = schema[section]
+    close = difflib.get_close_matches(name, list(keys), n=1, cutoff=0.6)
+    if close:
+        return f"did you mean {section}.{close[0]}?"
+    homes = [f"{other}.{name}" for other, other_keys in schema.items() if name in other_keys]
+    if homes:
+        return f"this key belongs in another section: {homes[0]}"
+    return f"valid keys in {section} are {', '.join(keys)}"
+
+
+def _shown(value: Any) -> str:
+    text = repr(value) if isinstance(value, str) else str(value)
+    if isinstance(value, bool):
+        text = "true" if value else "false"
+    if len(text) > 40:
+        text = text[:37] + "..."
+    return text
+
+
+def _bounds(minimum: float | None, maximum: float | None) -> str:
+    if minimum is not None and maximum is not None:
+        return f"from {minimum:g} to {maximum:g}"
+    if minimum is not None:
+        return f"of at least {minimum:g}"
+    return f"of at most {maximum:g}"
+
+
+def _checked_value(path: str, dotted: str, value: Any, spec: KeySpec, is_default: bool) -> Any:
+    kind, minimum, maximum = spec
+    word = _TYPE_WORDS.get(kind, kind.__name__)
+    range_hint = f" {_bounds(minimum, maximum)}" if (minimum is not None or maximum is not None) else ""
+    if kind is float:
+        ok = isinstance(value, (int, float)) and not isinstance(value, bool)
+    elif kind is int:
+        ok = isinstance(value, int) and not isinstance(value, bool)
+    else:
+        ok = isinstance(value, kind)
+    if not ok:
+        if value is None:
+            problem = f"has no value, but it must be {word}"
+        else:
+            problem = f"is {_shown(value)} ({_describe(value)}), but it must be {word}"
+        if kind in (float, int):
+            fix = f"write {word}{range_hint}, without quotes"
+        elif kind is bool:
+            fix = "write true or false"
+        else:
+            fix = f"write {word}"
+        raise PitfallsInputError(path, dotted, problem, fix=_default_fix(is_default, fix))
+    if kind in (float, int):
+        if isinstance(value, float) and not math.isfinite(value):
+            raise PitfallsInputError(path, dotted, f"is {_shown(value)}, not a finite number",
+                                     fix=_default_fix(is_default, f"write {word}{range_hint}"))
+        if (minimum is not None and value < minimum) or (maximum is not None and value > maximum):
+            raise PitfallsInputError(path, dotted, f"is {_shown(value)}, outside the allowed range{range_hint}",
+                                     fix=_default_fix(is_default, f"choose a value{range_hint}"))
+        if kind is float:
+            try:
+                return float(value)
+            except OverflowError as err:
+                raise PitfallsInputError(path, dotted, f"is {_shown(value)}, too large for a number",
+                                         fix=_default_fix(is_default, f"write {word}{range_hint}")) from err
+    return value
+
+
+def _describe(value: Any) -> str:
+    if isinstance(value, bool):
+        return "true/false"
+    if isinstance(value, str):
+        return "text"
+    if isinstance(value, float):
+        return "a decimal number"
+    if isinstance(value, int):
+        return "a whole number"
+    if isinstance(value, dict):
+        return "a section"
+    if isinstance(value, list):
+        return "a list"
+    return type(value).__name__
+
+
+def _checked(path: str, document: Any, schema: Mapping[str, Mapping[str, KeySpec]],
+             is_default: bool) -> dict[str, dict[str, Any]]:
+    """The document's values, checked and with float keys as floats."""
+    if document is None:
+        if is_default:
+            raise PitfallsInputError(path, "", "the defaults file is empty",
+                                     fix=_default_fix(is_default, "it must hold every rules section"))
+        return {}
+    if not isinstance(document, dict):
+        raise PitfallsInputError(path, "", f"the top level is {_describe(document)}, not sections of keys",
+                                 fix=_default_fix(is_default, "write sections such as 'velocity:' with "
+                                                  "'key: value' lines indented under them"))
+    result: dict[str, dict[str, Any]] = {}
+    for section, values in document.items():
+        name = str(section)
+        if not isinstance(section, str) or section not in schema:
+            raise PitfallsInputError(path, name, f"unknown section '{name}'",
+                                     fix=_default_fix(is_default, _suggestion(name, schema, None)))
+        if values is None and not is_default:
+            result[section] = {}
+            continue
+        if not isinstance(values, dict):
+            raise PitfallsInputError(path, section, f"is {_describe(values)}, not a section of keys",
+                                     fix=_default_fix(is_default, f"indent 'key: value' lines under '{section}:'"))
+        keys = schema[section]
+        checked: dict[str, Any] = {}
+        for key, value in values.items():
+            key_name = str(key)
+            dotted = f"{section}.{key_name}"
+            if not isinstance(key, str) or key not in keys:
+                raise PitfallsInputError(path, dotted, "unknown key",
+                                         fix=_default_fix(is_default, _suggestion(key_name, schema, section)))
+            checked[key] = _checked_value(path, dotted, value, tuple(keys[key]), is_default)
+        result[section] = checked
+    if is_default:
+        for section, keys in schema.items():
+            for key in keys:
+                if key not in result.get(section, {}):
+                    raise PitfallsInputError(path, f"{section}.{key}", "missing from the defaults",
+                                             fix=_default_fix(is_default, "every rules key needs a default"))
+    return copy.deepcopy(result)
+
+
+def _check_combinations(path: str, rules: Mapping[str, Mapping[str, Any]], is_default: bool) -> None:
+    """Checks that involve more than one key."""
+    ranking = rules.get("ranking", {})
+    weights = [name for name in CORE_KEYS["ranking"] if name in ranking]
+    if weights and sum(ranking[name] for name in weights) <= 0.0:
+        raise PitfallsInputError(path, "ranking", "all ranking weights are zero, so no finding could be scored",
+                                 fix=_default_fix(is_default, "give at least one weight a value above 0"))
