@@ -1,0 +1,5 @@
+import sys
+
+from pitfalls.cli import main
+
+sys.exit(main())

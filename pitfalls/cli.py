@@ -1,0 +1,227 @@
+"""The command line: the only module that prints or exits.
+
+Exit codes: 0 the scan ran and no finding reached ``--fail-on``; 1 a finding reached it or a
+detector failed; 2 bad input or usage (one line on stderr, no traceback).
+"""
+from __future__ import annotations
+
+import argparse
+import io
+import json
+import os
+import sys
+import tempfile
+from typing import Sequence
+
+from rich.console import Console
+
+from pitfalls import __version__
+from pitfalls import detectors as registry
+from pitfalls.errors import PitfallsInputError
+
+EXIT_OK, EXIT_FINDINGS, EXIT_INPUT = 0, 1, 2
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that reports usage mistakes on one line with exit code 2."""
+
+    def error(self, message: str) -> None:  # type: ignore[override]
+        raise PitfallsInputError("command line", "", message, f"see `{self.prog} --help`")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(prog="pitfalls", description=(
+        "Screen seismic interpretation picks on a post-stack SEG-Y section for physical pitfalls "
+        "(multiples, false fluid contacts, cross-cutting boundaries, pick errors)."))
+    parser.add_argument("--version", action="version", version=f"pitfalls {__version__}")
+    commands = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+
+    scan = commands.add_parser("scan", help="scan a SEG-Y section and its picks, print the ranked report")
+    scan.add_argument("section", metavar="SECTION", help="post-stack SEG-Y file (2-D line or 3-D volume)")
+    scan.add_argument("--picks", action="append", default=[], metavar="FILE", help="pick file (CSV); repeatable")
+    scan.add_argument("--rules", metavar="FILE", help="YAML rules overriding rules/default.yaml")
+    scan.add_argument("--format", choices=("terminal", "json", "markdown"), default="terminal")
+    scan.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
+    scan.add_argument("--annotated-picks", metavar="FILE.csv", help="write the pick rows back with their findings")
+    scan.add_argument("--figure", metavar="FILE.png", help="draw the section, picks and findings (needs matplotlib)")
+    scan.add_argument("--fail-on", choices=("high", "medium", "low", "never"), default="high",
+                      help="exit 1 when a finding is at least this severe (default high)")
+    scan.add_argument("--iline-byte", type=int, metavar="N", help="trace-header byte of the inline number (default 189)")
+    scan.add_argument("--xline-byte", type=int, metavar="N", help="trace-header byte of the crossline number (default 193)")
+    scan.add_argument("--2d", dest="force_2d", action="store_true", help="read the file as a 2-D line in trace order")
+    scan.add_argument("--only", metavar="DETECTOR,...", help="run only these detectors: " + ", ".join(registry.BY_NAME))
+    scan.add_argument("--quiet", action="store_true", help="print no report on stdout (files and exit code only)")
+
+    demo = commands.add_parser("demo", help="write the bundled demo scenario, then scan it")
+    demo.add_argument("--out", metavar="DIR", default="pitfalls-demo", help="folder for the demo files (default ./pitfalls-demo)")
+
+    rules = commands.add_parser("rules", help="print the active rules, defaults merged, validated")
+    rules.add_argument("--rules", metavar="FILE", help="YAML rules overriding rules/default.yaml")
+
+    explain = commands.add_parser("explain", help="what a finding means, why it matters, what to check")
+    explain.add_argument("finding_id", nargs="?", metavar="FINDING_ID")
+    explain.add_argument("--list", action="store_true", help="list every finding id")
+    return parser
+
+
+def write_atomically(path: str, text: str | bytes) -> None:
+    """Write the whole file or nothing: a temporary file in the same folder, then a rename."""
+    folder = os.path.dirname(os.path.abspath(path))
+    if not os.path.isdir(folder):
+        raise PitfallsInputError(path, "", "its folder does not exist", "create the folder or choose another path")
+    data = text.encode("utf-8") if isinstance(text, str) else text
+    handle, temporary = tempfile.mkstemp(dir=folder, prefix=".pitfalls-", suffix=".part")
+    try:
+        with os.fdopen(handle, "wb") as out:
+            out.write(data)
+        os.replace(temporary, path)
+    except BaseException:
+        if os.path.exists(temporary):
+            os.unlink(temporary)
+        raise
+
+
+def _load_rules(path: str | None):
+    from pitfalls.io.rules import load_rules
+    return load_rules(path, registry.rule_keys())
+
+
+def _render_text(result, fmt: str, width: int | None = None) -> str:
+    if fmt == "json":
+        from pitfalls.report.json_report import report_dict
+        return json.dumps(report_dict(result), indent=2) + "\n"
+    if fmt == "markdown":
+        from pitfalls.report.markdown import render
+        return render(result)
+    from pitfalls.report.terminal import render
+    buffer = io.StringIO()
+    Console(file=buffer, width=width or 120, color_system=None, force_terminal=False).print(render(result))
+    return buffer.getvalue()
+
+
+def _scan(args: argparse.Namespace, stdout: Console) -> int:
+    from pitfalls.engine import scan
+    if args.force_2d and (args.iline_byte or args.xline_byte):
+        raise PitfallsInputError("command line", "", "--2d cannot be combined with --iline-byte/--xline-byte",
+                                 "use --2d for a line, or the byte options for a 3-D volume")
+    only = [name.strip() for name in args.only.split(",") if name.strip()] if args.only else None
+    rules, rules_path, rules_sha = _load_rules(args.rules)
+    for target in (args.output, args.annotated_picks, args.figure):
+        if target and os.path.abspath(target) in {os.path.abspath(p) for p in [args.section, *args.picks]}:
+            raise PitfallsInputError(target, "", "is one of the input files", "write the output somewhere else; inputs are never changed")
+    if args.figure:
+        from pitfalls.report.figure import require_matplotlib
+        require_matplotlib()
+    progress_console = Console(stderr=True)
+    show_progress = sys.stderr.isatty()
+    if show_progress:
+        from rich.progress import Progress
+        with Progress(console=progress_console, transient=True) as bar:
+            task = bar.add_task("scanning", total=None)
+            result = scan(args.section, args.picks, rules, rules_path, rules_sha, only,
+                          args.iline_byte or 189, args.xline_byte or 193, args.force_2d,
+                          progress=lambda done, total: bar.update(task, completed=done, total=total))
+    else:
+        result = scan(args.section, args.picks, rules, rules_path, rules_sha, only,
+                      args.iline_byte or 189, args.xline_byte or 193, args.force_2d)
+    _emit(result, args.format, args.output, args.quiet, stdout)
+    if args.annotated_picks:
+        if not args.picks:
+            raise PitfallsInputError("--annotated-picks", "", "needs at least one --picks file", "add --picks FILE")
+        from pitfalls.report.annotated import render as render_annotated
+        write_atomically(args.annotated_picks, render_annotated(result))
+    if args.figure:
+        from pitfalls.report.figure import draw
+        write_atomically(args.figure, draw(result, rules))
+    if result.failed or result.reaches(args.fail_on):
+        return EXIT_FINDINGS
+    return EXIT_OK
+
+
+def _emit(result, fmt: str, output: str | None, quiet: bool, stdout: Console) -> None:
+    if output:
+        write_atomically(output, _render_text(result, fmt))
+        return
+    if quiet:
+        return
+    if fmt == "terminal":
+        from pitfalls.report.terminal import render
+        stdout.print(render(result))
+    else:
+        sys.stdout.write(_render_text(result, fmt))
+        sys.stdout.flush()
+
+
+def _demo(args: argparse.Namespace, stdout: Console) -> int:
+    from pitfalls.engine import scan
+    from pitfalls.modelling.demo import write_demo
+    from pitfalls.report.terminal import render
+    os.makedirs(args.out, exist_ok=True)
+    written = write_demo(args.out)
+    rules, rules_path, rules_sha = _load_rules(None)
+    result = scan(written["section"], [written["picks"]], rules, rules_path, rules_sha)
+    stdout.print(render(result))
+    figure_note = ""
+    try:
+        from pitfalls.report.figure import draw, require_matplotlib
+        require_matplotlib()
+        figure_path = os.path.join(args.out, "demo_figure.png")
+        write_atomically(figure_path, draw(result, rules))
+        figure_note = f", figure {figure_path}"
+    except PitfallsInputError as err:
+        figure_note = f" (no figure: {err.problem})"
+    stdout.print(f"Demo files in {args.out}: section {written['section']}, picks {written['picks']}, "
+                 f"truth {written['truth']}{figure_note}. Scan them yourself with:\n"
+                 f"  pitfalls scan {written['section']} --picks {written['picks']}")
+    return EXIT_FINDINGS if result.failed else EXIT_OK
+
+
+def _rules(args: argparse.Namespace) -> int:
+    from pitfalls.io.rules import render_rules
+    rules, rules_path, _ = _load_rules(args.rules)
+    sys.stdout.write(f"# active rules: {rules_path} merged over the defaults\n")
+    sys.stdout.write(render_rules(rules))
+    return EXIT_OK
+
+
+def _explain(args: argparse.Namespace, stdout: Console) -> int:
+    kinds = registry.finding_kinds()
+    if args.list or not args.finding_id:
+        for finding_id, (detector, (meaning, _, _)) in kinds.items():
+            stdout.print(f"{finding_id:34s} {meaning}", highlight=False)
+        return EXIT_OK
+    if args.finding_id not in kinds:
+        raise PitfallsInputError("explain", "", f"unknown finding id {args.finding_id!r}",
+                                 "run `pitfalls explain --list` for the ids")
+    detector, (meaning, why, check) = kinds[args.finding_id]
+    stdout.print(f"[bold]{args.finding_id}[/bold] (detector {detector})\n\n"
+                 f"What it means: {meaning}\n\nWhy it matters: {why}\n\nWhat to check: {check}", highlight=False)
+    return EXIT_OK
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run the command line; returns the exit code (also used by ``python -m pitfalls``)."""
+    stdout = Console(highlight=False)
+    try:
+        args = build_parser().parse_args(argv)
+        if args.command == "scan":
+            return _scan(args, stdout)
+        if args.command == "demo":
+            return _demo(args, stdout)
+        if args.command == "rules":
+            return _rules(args)
+        if args.command == "explain":
+            return _explain(args, stdout)
+        build_parser().print_help()
+        return EXIT_INPUT
+    except PitfallsInputError as err:
+        sys.stdout.flush()
+        print(f"pitfalls: error: {err.one_line()}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        print("pitfalls: interrupted", file=sys.stderr)
+        return EXIT_INPUT
+
+
+def entry_point() -> None:
+    sys.exit(main())

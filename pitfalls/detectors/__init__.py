@@ -1,0 +1,31 @@
+"""The detectors, in the fixed order the scan runs them.
+
+Each is a module with ``NAME``, ``FAMILY``, ``KINDS``, ``RULE_KEYS`` and
+``detect(section, picks, rules) -> list[Finding]``. To add one, import it here and add it
+to ``DETECTORS``; DEVELOPERS.md walks through the steps.
+"""
+from __future__ import annotations
+
+from types import ModuleType
+
+from pitfalls.detectors import pick_consistency
+
+DETECTORS: tuple[ModuleType, ...] = (
+    pick_consistency,
+)
+BY_NAME: dict[str, ModuleType] = {module.NAME: module for module in DETECTORS}
+
+
+def rule_keys() -> dict[str, dict[str, tuple]]:
+    """Every detector's rules section and its keys, for the rules loader."""
+    return {module.NAME: dict(module.RULE_KEYS) for module in DETECTORS}
+
+
+def finding_kinds() -> dict[str, tuple[str, tuple[str, str, str]]]:
+    """Every finding id any detector can emit -> (detector name, (meaning, why it matters, what to check))."""
+    kinds: dict[str, tuple[str, tuple[str, str, str]]] = {}
+    for module in DETECTORS:
+        for kind, text in module.KINDS.items():
+            finding_id = kind if "." in kind else f"{module.FAMILY}.{kind}"
+            kinds[finding_id] = (module.NAME, text)
+    return dict(sorted(kinds.items()))

@@ -1,0 +1,162 @@
+"""Picks that skip a cycle or flip polarity along a horizon.
+
+A pick that jumps by about one dominant period between neighbouring traces, where the
+horizon's own trend does not, has most likely slipped onto the next peak or trough of
+the same wavelet train (a cycle skip): the map then carries a step of one period that
+is not geology, and a closure or a throw can come from nothing else. A pick whose sample
+polarity changes (peak here, trough there) over a stretch of traces has either moved to
+a different reflector or crosses a real polarity change (a fluid effect, a tuning
+change) that the interpreter should see and name.
+
+Cycle skip: at each pair of neighbouring picked traces the step is compared with the
+median step of the ``trend_traces`` neighbours either side; a residual between
+``skip_min_periods`` and ``skip_max_periods`` dominant periods is a skip. A skip and a
+later skip of opposite sign on the same horizon bound the skipped stretch; an unpaired
+skip runs to the end of the continuous pick. Confidence is
+``0.5 + 0.5 * (1 - |jump/period - 1| / half_width)`` times the share of that stretch
+whose sample sign equals the sign before the skip, because a true cycle skip lands on
+the same phase one cycle away.
+
+Polarity flip: the sign of the sample at each pick (strongest sample within
+``snap_ms``) against the horizon's majority sign, counted only where the amplitude is at
+least ``min_amplitude_fraction`` of the horizon's median absolute amplitude (a pick on a
+zero crossing is not a flip). Runs of at least ``min_run_traces`` reversed traces are
+reported. Confidence is the run's share of reversed samples times a term that grows with
+the amplitude ratio.
+
+References
+----------
+.. [1] Sheriff, R. E., and Geldart, L. P., 1995, Exploration Seismology, 2nd ed.,
+       Cambridge University Press (phase correlation and cycle skips in picking; from memory).
+"""
+from __future__ import annotations
+
+from typing import Any, Mapping
+
+import numpy as np
+from scipy.ndimage import median_filter
+
+from pitfalls.model import Finding, Horizon, Picks, Section
+from pitfalls.physics.runs import true_runs
+from pitfalls.physics.seafloor import amplitude_at, dominant_frequency_hz, find_seafloor, majority_sign
+
+NAME = "pick_consistency"
+FAMILY = "pick"
+KINDS = {
+    "cycle-skip": (
+        "The pick jumps by about one dominant period between neighbouring traces where the horizon's trend does not.",
+        "A skip onto the next cycle puts a step of one period into the map: false throws, false closures, wrong thickness.",
+        "Follow the same peak or trough across the jump on the section; check whether a fault there is real; re-pick the stretch on one phase.",
+    ),
+    "polarity-flip": (
+        "The sample at the pick changes sign (peak here, trough there) over a stretch of traces.",
+        "Either the pick has moved to another reflector, or the reflection really changes polarity (fluid, tuning, lithology), which is itself worth naming.",
+        "Look at the waveform along the horizon at the flip; if the event is the same, pick one phase throughout; if polarity truly reverses, look for a fluid or tuning cause.",
+    ),
+}
+RULE_KEYS = {
+    "trend_traces": (int, 1, 100),
+    "skip_min_periods": (float, 0.3, 1.0),
+    "skip_max_periods": (float, 1.0, 3.0),
+    "high_min_traces": (int, 1, 100000),
+    "snap_ms": (float, 0.0, 50.0),
+    "min_amplitude_fraction": (float, 0.0, 1.0),
+    "min_run_traces": (int, 1, 100000),
+    "max_gap_traces": (int, 0, 1000),
+}
+
+
+def detect(section: Section, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
+    """Cycle skips and polarity flips on every picked horizon of one panel."""
+    settings = rules[NAME]
+    seafloor = find_seafloor(section, picks, rules)
+    frequency_hz = dominant_frequency_hz(section, seafloor.twt_ms)
+    findings: list[Finding] = []
+    for horizon in picks.horizons:
+        if horizon.n_points < 3:
+            continue
+        if np.isfinite(frequency_hz) and frequency_hz > 0:
+            findings.extend(_cycle_skips(section, horizon, 1000.0 / frequency_hz, settings))
+        if horizon.kind != "seafloor":
+            findings.extend(_polarity_flips(section, horizon, settings))
+    return findings
+
+
+def _cycle_skips(section: Section, horizon: Horizon, period_ms: float, settings: Mapping[str, Any]) -> list[Finding]:
+    twt = horizon.twt_ms
+    picked = np.flatnonzero(np.isfinite(twt))
+    steps = np.diff(twt[picked])
+    neighbours = np.diff(picked) == 1
+    if steps.size < 3:
+        return []
+    trend = median_filter(steps, size=2 * int(settings["trend_traces"]) + 1, mode="nearest")
+    residual = steps - trend
+    size = np.abs(residual) / period_ms
+    is_skip = neighbours & (size >= settings["skip_min_periods"]) & (size <= settings["skip_max_periods"])
+    skips = [(int(k), float(residual[k])) for k in np.flatnonzero(is_skip)]
+    findings = []
+    used: set[int] = set()
+    sign_before = np.sign(amplitude_at(section, twt, settings["snap_ms"]))
+    for position, (k, jump_ms) in enumerate(skips):
+        if k in used:
+            continue
+        first_index = int(picked[k + 1])
+        back = next(((k2, j2) for k2, j2 in skips[position + 1:] if np.sign(j2) != np.sign(jump_ms)), None)
+        if back is not None:
+            used.add(back[0])
+            last_index = int(picked[back[0]])
+        else:
+            segment_end = k + 1
+            while segment_end + 1 < len(picked) and picked[segment_end + 1] == picked[segment_end] + 1:
+                segment_end += 1
+            last_index = int(picked[segment_end])
+        stretch = slice(first_index, last_index + 1)
+        before = sign_before[int(picked[k])]
+        same_phase = float(np.mean(sign_before[stretch] == before)) if np.isfinite(before) else 0.0
+        jump_periods = abs(jump_ms) / period_ms
+        half_width = max(settings["skip_max_periods"] - 1.0, 1.0 - settings["skip_min_periods"])
+        closeness = 1.0 - min(1.0, abs(jump_periods - 1.0) / half_width)
+        confidence = float(np.clip((0.5 + 0.5 * closeness) * same_phase, 0.0, 1.0))
+        n_traces = last_index - first_index + 1
+        severity = "high" if n_traces >= settings["high_min_traces"] and confidence >= 0.5 else "medium"
+        first_number = int(section.trace_numbers[first_index])
+        last_number = int(section.trace_numbers[last_index])
+        times = twt[stretch][np.isfinite(twt[stretch])]
+        findings.append(Finding(
+            id="pick.cycle-skip", detector=NAME, severity=severity, confidence=confidence,
+            title=(f"{horizon.name} jumps {jump_ms:+.0f} ms (about {jump_periods:.1f} period) at trace {first_number} "
+                   f"and stays on the other cycle to trace {last_number}"),
+            advice=KINDS["cycle-skip"][2], horizon=horizon.name, traces=(first_number, last_number),
+            twt_ms=(float(times.min()), float(times.max())),
+            evidence={"jump_ms": jump_ms, "dominant_period_ms": period_ms, "jump_in_periods": jump_periods,
+                      "skip_trace": first_number, "traces_on_other_cycle": n_traces,
+                      "same_phase_fraction": same_phase, "returns": back is not None},
+        ))
+    return findings
+
+
+def _polarity_flips(section: Section, horizon: Horizon, settings: Mapping[str, Any]) -> list[Finding]:
+    amplitude = amplitude_at(section, horizon.twt_ms, settings["snap_ms"])
+    strong = np.abs(amplitude) >= settings["min_amplitude_fraction"] * np.nanmedian(np.abs(amplitude))
+    usual = majority_sign(amplitude[strong])
+    if usual == 0:
+        return []
+    reversed_ = strong & (np.sign(amplitude) == -usual)
+    findings = []
+    for first, last in true_runs(reversed_, int(settings["max_gap_traces"]), int(settings["min_run_traces"])):
+        stretch = slice(first, last + 1)
+        share = float(np.mean(reversed_[stretch][np.isfinite(amplitude[stretch])]))
+        ratio = float(np.nanmedian(np.abs(amplitude[stretch])) / np.nanmedian(np.abs(amplitude[strong & ~reversed_])))
+        confidence = float(np.clip(share * min(1.0, 0.5 + 0.5 * ratio), 0.0, 1.0))
+        first_number, last_number = int(section.trace_numbers[first]), int(section.trace_numbers[last])
+        times = horizon.twt_ms[stretch][np.isfinite(horizon.twt_ms[stretch])]
+        findings.append(Finding(
+            id="pick.polarity-flip", detector=NAME, severity="medium", confidence=confidence,
+            title=(f"{horizon.name} is picked on the opposite polarity to the rest of the horizon "
+                   f"over traces {first_number}-{last_number}"),
+            advice=KINDS["polarity-flip"][2], horizon=horizon.name, traces=(first_number, last_number),
+            twt_ms=(float(times.min()), float(times.max())),
+            evidence={"horizon_polarity": usual, "reversed_fraction": share, "n_traces": last - first + 1,
+                      "amplitude_ratio_to_rest": ratio},
+        ))
+    return findings

@@ -1,0 +1,218 @@
+"""The scan: read the section and the picks, run every selected detector on every panel, rank.
+
+A 2-D line is one panel. A 3-D volume is walked inline by inline (one inline in memory at a
+time); each detector sees one inline as a panel, and its findings are merged across
+neighbouring inlines into inline/crossline ranges. A detector that raises does not stop the
+scan: it is recorded as failed and the other detectors go on.
+"""
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass, replace
+from typing import Any, Callable, Mapping, Sequence
+
+import numpy as np
+
+from pitfalls import detectors as registry
+from pitfalls.errors import PitfallsInputError
+from pitfalls.io.picks import PickFile, read_pick_file
+from pitfalls.io.placement import PlacedPicks, place_picks
+from pitfalls.io.segy import DEFAULT_INLINE_BYTE, DEFAULT_XLINE_BYTE, SeismicFile
+from pitfalls.model import DetectorRun, Finding, SectionInfo
+from pitfalls.physics.seafloor import dominant_frequency_hz, find_seafloor
+from pitfalls.report.rank import SEVERITY_ORDER, rank_findings
+
+
+@dataclass(frozen=True)
+class PickSummary:
+    """One horizon as the report lists it beside the interpreter's picks."""
+
+    horizon: str
+    kind: str
+    n_points: int
+    """Pick rows with a time."""
+    n_gaps: int
+    """Pick rows that are gaps (empty, NaN, -999.25)."""
+
+
+@dataclass(frozen=True)
+class SeafloorSummary:
+    """The seafloor every detector measured against."""
+
+    source: str
+    polarity: int
+    n_traces_found: int
+    twt_ms_median: float
+    dominant_frequency_hz: float
+
+
+@dataclass(frozen=True)
+class ScanResult:
+    """Everything the reports need."""
+
+    section: SectionInfo
+    pick_files: tuple[PickFile, ...]
+    picks: tuple[PickSummary, ...]
+    rules_path: str
+    rules_sha256: str
+    detectors: tuple[DetectorRun, ...]
+    findings: tuple[Finding, ...]
+    seafloor: SeafloorSummary
+
+    @property
+    def failed(self) -> tuple[DetectorRun, ...]:
+        return tuple(run for run in self.detectors if run.status == "failed")
+
+    def reaches(self, threshold: str) -> bool:
+        """True when a finding is at least as severe as ``threshold`` (``never`` is never reached)."""
+        if threshold == "never":
+            return False
+        return any(SEVERITY_ORDER[f.severity] <= SEVERITY_ORDER[threshold] for f in self.findings)
+
+
+def select_detectors(only: Sequence[str] | None) -> tuple:
+    """The registry's detectors, or those named in ``only`` (in registry order)."""
+    if not only:
+        return registry.DETECTORS
+    unknown = [name for name in only if name not in registry.BY_NAME]
+    if unknown:
+        raise PitfallsInputError("--only", "", f"unknown detector {unknown[0]!r}",
+                                 "choose from " + ", ".join(registry.BY_NAME))
+    return tuple(module for module in registry.DETECTORS if module.NAME in only)
+
+
+def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any], rules_path: str,
+         rules_sha256: str, only: Sequence[str] | None = None, iline_byte: int = DEFAULT_INLINE_BYTE,
+         xline_byte: int = DEFAULT_XLINE_BYTE, force_2d: bool = False,
+         progress: Callable[[int, int], None] | None = None) -> ScanResult:
+    """Scan one section with its pick files; see the module docstring.
+
+    Parameters
+    ----------
+    progress : callable, optional
+        Called as ``progress(done_panels, total_panels)`` after every panel.
+
+    Raises
+    ------
+    PitfallsInputError
+        For any problem with the section, the picks or the detector selection.
+    """
+    selected = select_detectors(only)
+    pick_files = [read_pick_file(path) for path in pick_paths]
+    with SeismicFile(section_path, rules["section"]["fallback_trace_spacing_m"], iline_byte, xline_byte,
+                     force_2d) as seismic:
+        info = seismic.info
+        placed = place_picks(pick_files, info, seismic.layout)
+        seconds = {module.NAME: 0.0 for module in selected}
+        errors: dict[str, str] = {}
+        per_panel: list[list[Finding]] = []
+        seafloor_times: list[np.ndarray] = []
+        polarities: list[int] = []
+        sources: set[str] = set()
+        frequencies: list[float] = []
+        total = info.n_inlines if info.geometry == "3d" else 1
+        for panel_index, panel in enumerate(seismic.panels()):
+            picks = placed.panel(panel_index)
+            seafloor = find_seafloor(panel, picks, rules)
+            seafloor_times.append(seafloor.twt_ms)
+            polarities.append(seafloor.polarity)
+            sources.add(seafloor.source)
+            if panel_index == 0 or panel_index == total // 2:
+                frequencies.append(dominant_frequency_hz(panel, seafloor.twt_ms))
+            found: list[Finding] = []
+            for module in selected:
+                if module.NAME in errors:
+                    continue
+                started = time.perf_counter()
+                try:
+                    result = module.detect(panel, picks, rules)
+                except Exception as err:  # a failing detector must not stop the others
+                    where = f" on {panel.name}" if info.geometry == "3d" else ""
+                    errors[module.NAME] = f"{type(err).__name__}{where}: {' '.join(str(err).split())}"
+                    result = []
+                seconds[module.NAME] += time.perf_counter() - started
+                found.extend(result)
+            if info.geometry == "3d":
+                found = [replace(f, inlines=(panel.inline_number, panel.inline_number), xlines=f.traces, traces=None)
+                         if f.traces is not None else replace(f, inlines=(panel.inline_number, panel.inline_number))
+                         for f in found]
+            per_panel.append(found)
+            if progress is not None:
+                progress(panel_index + 1, total)
+    findings = merge_inlines(per_panel) if info.geometry == "3d" else per_panel[0]
+    runs = tuple(DetectorRun(module.NAME, "failed" if module.NAME in errors else "ran", seconds[module.NAME],
+                             errors.get(module.NAME, "")) for module in selected)
+    all_seafloor = np.concatenate(seafloor_times)
+    found_seafloor = all_seafloor[np.isfinite(all_seafloor)]
+    votes = int(np.sign(sum(polarities)))
+    seafloor_summary = SeafloorSummary(
+        source="+".join(sorted(sources)), polarity=votes, n_traces_found=int(found_seafloor.size),
+        twt_ms_median=float(np.median(found_seafloor)) if found_seafloor.size else float("nan"),
+        dominant_frequency_hz=float(np.nanmedian(frequencies)) if np.isfinite(frequencies).any() else float("nan"))
+    return ScanResult(
+        section=info, pick_files=tuple(pick_files), picks=_summaries(placed), rules_path=rules_path,
+        rules_sha256=rules_sha256, detectors=runs, findings=rank_findings(findings, info, rules["ranking"]),
+        seafloor=seafloor_summary)
+
+
+def _summaries(placed: PlacedPicks) -> tuple[PickSummary, ...]:
+    return tuple(PickSummary(name, kind, rows - gaps, gaps)
+                 for name, kind, rows, gaps in zip(placed.names, placed.kinds, placed.n_rows, placed.n_gaps))
+
+
+def merge_inlines(per_panel: Sequence[Sequence[Finding]]) -> list[Finding]:
+    """Join findings with the same id and horizon on neighbouring inlines whose crossline ranges overlap.
+
+    The merged finding keeps the evidence, title and advice of its most confident member,
+    the worst severity, the union of the ranges, and counts its inlines in
+    ``evidence["inlines_merged"]``.
+    """
+    open_groups: list[tuple[Finding, int]] = []  # (merged finding, index of its last panel)
+    closed: list[Finding] = []
+    for panel_index, findings in enumerate(per_panel):
+        still_open: list[tuple[Finding, int]] = []
+        taken: set[int] = set()
+        for merged, last_panel in open_groups:
+            if last_panel != panel_index - 1:
+                closed.append(merged)
+                continue
+            partner = None
+            for index, candidate in enumerate(findings):
+                if index in taken or candidate.id != merged.id or candidate.horizon != merged.horizon:
+                    continue
+                if _overlap(merged.xlines, candidate.xlines):
+                    partner = index
+                    break
+            if partner is None:
+                closed.append(merged)
+                continue
+            taken.add(partner)
+            still_open.append((_join(merged, findings[partner]), panel_index))
+        for index, candidate in enumerate(findings):
+            if index not in taken:
+                still_open.append((replace(candidate, evidence={**candidate.evidence, "inlines_merged": 1}), panel_index))
+        open_groups = still_open
+    closed.extend(merged for merged, _ in open_groups)
+    return closed
+
+
+def _overlap(a: tuple[int, int] | None, b: tuple[int, int] | None) -> bool:
+    if a is None or b is None:
+        return a is None and b is None
+    return a[0] <= b[1] and b[0] <= a[1]
+
+
+def _span(a: tuple | None, b: tuple | None) -> tuple | None:
+    if a is None or b is None:
+        return a if b is None else b
+    return (min(a[0], b[0]), max(a[1], b[1]))
+
+
+def _join(merged: Finding, new: Finding) -> Finding:
+    strongest = new if new.confidence > merged.confidence else merged
+    severity = min((merged.severity, new.severity), key=SEVERITY_ORDER.__getitem__)
+    count = int(merged.evidence.get("inlines_merged", 1)) + 1
+    return replace(strongest, severity=severity, confidence=max(merged.confidence, new.confidence),
+                   inlines=_span(merged.inlines, new.inlines), xlines=_span(merged.xlines, new.xlines),
+                   twt_ms=_span(merged.twt_ms, new.twt_ms),
+                   evidence={**strongest.evidence, "inlines_merged": count})

@@ -1,0 +1,73 @@
+"""The JSON report, schema ``pitfalls-report/1``: a plain dict ready for ``json.dumps``.
+
+The layout is fixed by the project's contract; ``pitfalls/data/report.schema.json`` is the
+JSON Schema a consumer can validate it with.
+"""
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from pitfalls import __version__
+from pitfalls.engine import ScanResult
+from pitfalls.model import Finding
+from pitfalls.report.text import CAUTION
+
+SCHEMA = "pitfalls-report/1"
+
+
+def _plain(value: Any) -> Any:
+    """Numbers as JSON numbers (NaN and infinities as null), numpy scalars as Python ones."""
+    if hasattr(value, "item") and not isinstance(value, (list, tuple, dict)):
+        value = value.item()
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    if isinstance(value, dict):
+        return {str(k): _plain(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_plain(v) for v in value]
+    return value
+
+
+def _range(values: tuple | None) -> list | None:
+    return None if values is None else [_plain(values[0]), _plain(values[1])]
+
+
+def finding_dict(finding: Finding) -> dict[str, Any]:
+    return {
+        "rank": finding.rank,
+        "id": finding.id,
+        "detector": finding.detector,
+        "severity": finding.severity,
+        "confidence": _plain(float(finding.confidence)),
+        "score": _plain(float(finding.score)),
+        "horizon": finding.horizon,
+        "traces": _range(finding.traces),
+        "inlines": _range(finding.inlines),
+        "xlines": _range(finding.xlines),
+        "twt_ms": _range(finding.twt_ms),
+        "title": finding.title,
+        "evidence": _plain(dict(finding.evidence)),
+        "advice": finding.advice,
+    }
+
+
+def report_dict(result: ScanResult) -> dict[str, Any]:
+    """The whole report as the contract lays it out."""
+    info = result.section
+    return {
+        "schema": SCHEMA,
+        "tool_version": __version__,
+        "section": {"path": info.path, "sha256": info.sha256, "geometry": info.geometry,
+                    "n_traces": info.n_traces, "n_samples": info.n_samples,
+                    "dt_ms": _plain(info.dt_ms), "t0_ms": _plain(info.t0_ms)},
+        "picks": [{"horizon": p.horizon, "kind": p.kind, "n_points": p.n_points, "n_gaps": p.n_gaps}
+                  for p in result.picks],
+        "rules": {"path": result.rules_path, "sha256": result.rules_sha256},
+        "detectors": [{"name": run.name, "status": run.status, "seconds": round(run.seconds, 4)}
+                      for run in result.detectors],
+        "findings": [finding_dict(f) for f in result.findings],
+        "summary": {severity: sum(1 for f in result.findings if f.severity == severity)
+                    for severity in ("high", "medium", "low")},
+        "caution": CAUTION,
+    }

@@ -1,0 +1,81 @@
+"""Wording shared by the terminal and Markdown reports: the caution, locations and number formats."""
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from pitfalls.engine import ScanResult
+from pitfalls.model import Finding
+
+CAUTION = (
+    "pitfalls screens picks for known physical pitfalls. It does not replace review of the "
+    "interpretation by qualified interpreters, nor local regulations and licensed professional "
+    "practice. Do not place a well, book a volume or choose a storage site on its word alone."
+)
+
+
+def location(finding: Finding) -> str:
+    """Where a finding is, as the pick file numbers it."""
+    if finding.inlines is not None:
+        text = f"IL {finding.inlines[0]}-{finding.inlines[1]}"
+        if finding.xlines is not None:
+            text += f" XL {finding.xlines[0]}-{finding.xlines[1]}"
+        return text
+    if finding.traces is not None:
+        return f"tr {finding.traces[0]}-{finding.traces[1]}"
+    return "whole section"
+
+
+def time_window(finding: Finding) -> str:
+    if finding.twt_ms is None:
+        return "-"
+    return f"{finding.twt_ms[0]:.0f}-{finding.twt_ms[1]:.0f} ms"
+
+
+def number(value: Any) -> str:
+    """Evidence values rounded for reading; the JSON report keeps them unrounded."""
+    if isinstance(value, bool) or value is None:
+        return str(value).lower()
+    if isinstance(value, int):
+        return str(value)
+    if isinstance(value, float):
+        if not math.isfinite(value):
+            return "n/a"
+        if value != 0 and (abs(value) >= 1e5 or abs(value) < 1e-3):
+            return f"{value:.3g}"
+        return f"{value:.3f}".rstrip("0").rstrip(".") if abs(value) < 10 else f"{value:.1f}"
+    if isinstance(value, (list, tuple)):
+        return ", ".join(number(v) for v in value)
+    return str(value)
+
+
+def worst_by_horizon(result: ScanResult) -> dict[str, tuple[Finding, int]]:
+    """Each horizon's best-ranked finding and how many findings it has."""
+    worst: dict[str, tuple[Finding, int]] = {}
+    for finding in result.findings:  # already in rank order
+        if finding.horizon is None:
+            continue
+        if finding.horizon in worst:
+            first, count = worst[finding.horizon]
+            worst[finding.horizon] = (first, count + 1)
+        else:
+            worst[finding.horizon] = (finding, 1)
+    return worst
+
+
+def section_lines(result: ScanResult) -> list[str]:
+    info = result.section
+    shape = (f"{info.n_inlines} inlines x {info.n_xlines} crosslines ({info.n_traces} traces, "
+             f"{info.n_missing_traces} positions missing)" if info.geometry == "3d" else f"{info.n_traces} traces")
+    spacing = "from headers" if info.spacing_from_headers else "fallback from rules"
+    seafloor = result.seafloor
+    polarity = {1: "positive", -1: "negative", 0: "unknown"}[seafloor.polarity]
+    lines = [
+        f"Section: {info.path} ({info.geometry.upper()}, {shape}, {info.n_samples} samples at {info.dt_ms:g} ms "
+        f"from {info.t0_ms:g} ms, trace spacing {info.trace_spacing_m:.1f} m {spacing})",
+        f"Seafloor: {seafloor.source}, found on {seafloor.n_traces_found} traces, median {seafloor.twt_ms_median:.0f} ms, "
+        f"{polarity} in this file's sign convention; dominant frequency {seafloor.dominant_frequency_hz:.0f} Hz",
+        f"Rules: {result.rules_path}",
+    ]
+    lines += [f"Note: {note}" for note in info.notes]
+    return lines
