@@ -1,0 +1,493 @@
+"""Seafloor-parallel reflectors that cut across strata, and the hydrate stability base they may mark.
+
+Bottom-simulating events follow an isotherm, so they keep a nearly constant two-way time
+below the seafloor while the bedding around them dips at its own angle. The section is
+mapped to time below the seafloor (each trace shifted so that the seafloor is at zero);
+there a bottom-simulating event is horizontal. Two lateral coherences are compared:
+
+- semblance along constant time below the seafloor (horizontal in the mapped panel), over
+  a window of traces and a short window of samples (Neidell & Taner 1971, semblance);
+- semblance along the local stratal dip, the dip of the gradient structure tensor
+  (``pitfalls.physics.dip``) measured in bands above and below the event, so that the
+  event itself does not set the dip it is compared with; the band average is weighted by
+  the tensor's coherence, and dips steeper than a limit are left out as noise.
+
+An event is a line of envelope maxima of the laterally averaged mapped panel where the
+seafloor-parallel semblance is high and exceeds the semblance along the stratal dip, the
+event stands out in amplitude, and the strata around it dip at more than a threshold angle
+relative to the seafloor.
+
+The predicted base of methane-hydrate stability (``pitfalls.physics.hydrate``) is turned
+into time below the seafloor with the project's velocity model, so that it can be set
+beside an observed event; and the geothermal gradient that would put the base exactly at
+the observed event is found by the inverse.
+
+References
+----------
+.. [1] Neidell, N. S., and Taner, M. T., 1971, Semblance and other coherency measures for
+       multichannel data, Geophysics 36(3), 482-497. (from memory)
+.. [2] Dickens, G. R., and Quinby-Hunt, M. S., 1994, Methane hydrate stability in seawater,
+       Geophysical Research Letters 21(19), 2115-2118.
+.. [3] Berndt, C., Buenz, S., Clayton, T., Mienert, J., and Saunders, M., 2004, Seismic
+       character of bottom simulating reflectors: examples from the mid-Norwegian margin,
+       Marine and Petroleum Geology 21, 723-733. (reversed polarity, cuts strata)
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.ndimage import binary_dilation, correlate1d, label, map_coordinates, maximum_filter1d, uniform_filter1d
+from scipy.signal import hilbert
+
+from pitfalls.physics.dip import structure_tensor_dip
+from pitfalls.physics.hydrate import gradient_for_base_c_per_km, stability_base_depth_m
+from pitfalls.physics.velocity import VelocityModel
+
+_TINY = 1e-30
+
+
+# --- mapping to time below the seafloor ------------------------------------------------------
+def flatten_on_seafloor(data: np.ndarray, dt_ms: float, t0_ms: float, seafloor_twt_ms: np.ndarray,
+                        length_ms: float) -> tuple[np.ndarray, np.ndarray]:
+    """Map a panel to two-way time below the seafloor by linear interpolation (datum shift).
+
+    Parameters
+    ----------
+    data : ndarray of shape (n_traces, n_samples)
+        Amplitudes; NaN is treated as no data.
+    dt_ms, t0_ms : float
+        Sample interval and time of the first sample.
+    seafloor_twt_ms : ndarray of shape (n_traces,)
+        Seafloor time per trace; NaN where unknown.
+    length_ms : float
+        How far below the seafloor to map.
+
+    Returns
+    -------
+    flattened : ndarray of shape (n_traces, n_below)
+        ``flattened[i, k]`` is the amplitude at ``seafloor_twt_ms[i] + k * dt_ms``; 0 where
+        outside the data or on a trace without a seafloor.
+    valid : ndarray of shape (n_traces,), bool
+        Traces with a seafloor and live data.
+    """
+    n_traces, n_samples = data.shape
+    n_below = max(1, int(round(length_ms / dt_ms)) + 1)
+    image = np.nan_to_num(np.asarray(data, dtype=np.float64), nan=0.0)
+    seafloor_sample = (np.asarray(seafloor_twt_ms, dtype=float) - t0_ms) / dt_ms
+    valid = np.isfinite(seafloor_sample) & np.isfinite(data).all(axis=1) & (np.abs(image).sum(axis=1) > 0)
+    rows = np.repeat(np.arange(n_traces, dtype=float)[:, None], n_below, axis=1)
+    columns = np.where(valid, seafloor_sample, -10.0 * n_below)[:, None] + np.arange(n_below)[None, :]
+    flattened = map_coordinates(image, [rows, columns], order=1, mode="constant", cval=0.0)
+    flattened[~valid] = 0.0
+    return flattened, valid
+
+
+# --- lateral coherence ---------------------------------------------------------------------
+def seafloor_parallel_semblance(flattened: np.ndarray, valid: np.ndarray, window_traces: int,
+                                window_samples: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Semblance along constant time below the seafloor (Neidell & Taner 1971), in sliding windows.
+
+    Parameters
+    ----------
+    flattened : ndarray of shape (n_traces, n_below)
+        Panel mapped to time below the seafloor.
+    valid : ndarray of shape (n_traces,), bool
+        Traces that carry data.
+    window_traces, window_samples : int
+        Window size across traces and along time (odd numbers work best).
+
+    Returns
+    -------
+    semblance : ndarray of shape (n_traces, n_below), in [0, 1]
+        ``(sum_j f_j)^2 / (N sum_j f_j^2)`` summed over the time window.
+    lateral_mean : ndarray of shape (n_traces, n_below)
+        Mean of the valid traces in the window at each time: the seafloor-parallel stack.
+    valid_fraction : ndarray of shape (n_traces,)
+        Share of valid traces in each window.
+    """
+    live = valid.astype(np.float64)
+    mean = uniform_filter1d(flattened, window_traces, axis=0, mode="constant")
+    mean_square = uniform_filter1d(flattened * flattened, window_traces, axis=0, mode="constant")
+    valid_fraction = uniform_filter1d(live, window_traces, mode="constant")
+    numerator = uniform_filter1d(mean * mean, window_samples, axis=1, mode="constant")
+    denominator = uniform_filter1d(mean_square * valid_fraction[:, None], window_samples, axis=1, mode="constant")
+    # semblance = (sum f)^2 / (N sum f^2) with sum f = W mean, N = W fraction, sum f^2 = W mean_square
+    semblance = np.where(denominator > _TINY, numerator / np.maximum(denominator, _TINY), 0.0)
+    lateral_mean = np.where(valid_fraction[:, None] > 0, mean / np.maximum(valid_fraction[:, None], _TINY), 0.0)
+    return np.clip(semblance, 0.0, 1.0), lateral_mean, valid_fraction
+
+
+def dip_steered_semblance(flattened: np.ndarray, trace_index: np.ndarray, sample_index: np.ndarray,
+                          dip_samples_per_trace: np.ndarray, window_traces: int, window_samples: int) -> np.ndarray:
+    """Semblance along a given dip (Neidell & Taner 1971) at chosen points of a panel.
+
+    Parameters
+    ----------
+    flattened : ndarray of shape (n_traces, n_samples)
+        The panel.
+    trace_index, sample_index : ndarray of shape (n_points,)
+        Centre of each window.
+    dip_samples_per_trace : ndarray of shape (n_points,)
+        Dip of the line the traces are aligned along.
+    window_traces, window_samples : int
+        Window size across traces and along time.
+
+    Returns
+    -------
+    ndarray of shape (n_points,)
+        Semblance in [0, 1] along the dip.
+    """
+    half_traces = window_traces // 2
+    half_samples = window_samples // 2
+    offsets_traces = np.arange(-half_traces, half_traces + 1, dtype=float)
+    offsets_samples = np.arange(-half_samples, half_samples + 1, dtype=float)
+    trace = np.asarray(trace_index, dtype=float)[:, None, None] + offsets_traces[None, :, None]
+    sample = (np.asarray(sample_index, dtype=float)[:, None, None]
+              + np.asarray(dip_samples_per_trace, dtype=float)[:, None, None] * offsets_traces[None, :, None]
+              + offsets_samples[None, None, :])
+    trace = np.broadcast_to(trace, sample.shape)
+    inside = (trace >= 0) & (trace <= flattened.shape[0] - 1)
+    values = map_coordinates(flattened, [np.clip(trace, 0, flattened.shape[0] - 1), sample],
+                             order=1, mode="constant", cval=0.0)
+    values = np.where(inside, values, 0.0)
+    count = np.maximum(inside[:, :, 0].sum(axis=1), 1)
+    numerator = (values.sum(axis=1) ** 2).sum(axis=1)
+    denominator = count * (values ** 2).sum(axis=(1, 2))
+    return np.where(denominator > _TINY, numerator / np.maximum(denominator, _TINY), 0.0)
+
+
+def banded_stratal_dip(dip_samples_per_trace: np.ndarray, weight: np.ndarray, window_traces: int,
+                       guard_samples: int, band_samples: int) -> tuple[np.ndarray, np.ndarray]:
+    """Weighted stratal dip in bands above and below each sample, leaving out the sample's own event.
+
+    Parameters
+    ----------
+    dip_samples_per_trace, weight : ndarray of shape (n_traces, n_samples)
+        Structure-tensor dip and its weight (e.g. linearity).
+    window_traces : int
+        Width of the band across traces.
+    guard_samples : int
+        Samples either side of the centre left out (the event and its wavelet).
+    band_samples : int
+        Samples either side of the centre up to which the bands reach.
+
+    Returns
+    -------
+    mean_dip : ndarray of shape (n_traces, n_samples)
+        Weighted mean signed dip of the bands, samples per trace.
+    rms_dip : ndarray of shape (n_traces, n_samples)
+        Weighted root-mean-square dip of the bands, samples per trace: large when the
+        strata dip either way relative to the centre line.
+    """
+    band_samples = max(band_samples, guard_samples + 1)
+    offsets = np.arange(-band_samples, band_samples + 1)
+    kernel = (np.abs(offsets) >= guard_samples).astype(np.float64)
+
+    def band_sum(values: np.ndarray) -> np.ndarray:
+        across = uniform_filter1d(values, window_traces, axis=0, mode="constant")
+        return correlate1d(across, kernel, axis=1, mode="constant")
+
+    total_weight = band_sum(weight)
+    safe = np.maximum(total_weight, _TINY)
+    mean_dip = np.where(total_weight > _TINY, band_sum(weight * dip_samples_per_trace) / safe, 0.0)
+    rms_dip = np.where(total_weight > _TINY,
+                       np.sqrt(np.maximum(band_sum(weight * dip_samples_per_trace ** 2) / safe, 0.0)), 0.0)
+    return mean_dip, rms_dip
+
+
+def dip_angle_deg(dip_ms_per_trace: np.ndarray | float, velocity_m_s: np.ndarray | float,
+                  trace_spacing_m: float) -> np.ndarray:
+    """Dip angle in depth of a time dip, for vertical rays: ``atan(v dt / (2 dx))`` (common practice).
+
+    Parameters
+    ----------
+    dip_ms_per_trace : float or ndarray
+        Time dip, ms of two-way time per trace.
+    velocity_m_s : float or ndarray
+        Interval velocity at the dip.
+    trace_spacing_m : float
+        Distance between traces.
+    """
+    depth_per_trace_m = np.asarray(velocity_m_s, dtype=float) * np.asarray(dip_ms_per_trace, dtype=float) / 2000.0
+    return np.degrees(np.arctan2(depth_per_trace_m, trace_spacing_m))  # tan(angle) = (v/2) dt / dx
+
+
+# --- the event search ----------------------------------------------------------------------
+@dataclass(frozen=True)
+class SeafloorParallelEvent:
+    """A coherent event at near-constant time below the seafloor that cuts the strata around it."""
+
+    trace_index: np.ndarray
+    """0-based traces the event covers, shape (n,), increasing."""
+    twt_below_seafloor_ms: np.ndarray
+    """Time of the event below the seafloor on each of those traces, shape (n,)."""
+    amplitude: np.ndarray
+    """Signed amplitude at the event (strongest lobe), shape (n,)."""
+    semblance_seafloor_parallel: np.ndarray
+    """Semblance along constant time below the seafloor, shape (n,)."""
+    semblance_along_strata: np.ndarray
+    """Semblance along the stratal dip of the bands around the event, shape (n,)."""
+    stratal_dip_samples_per_trace: np.ndarray
+    """Signed dip of the strata relative to the seafloor (mapped panel), shape (n,)."""
+    stratal_rms_dip_samples_per_trace: np.ndarray
+    """RMS dip of the strata relative to the seafloor, shape (n,)."""
+
+    @property
+    def extent_traces(self) -> int:
+        return int(self.trace_index[-1] - self.trace_index[0] + 1)
+
+
+@dataclass(frozen=True)
+class EventSearch:
+    """Everything the seafloor-parallel event search measured on one panel."""
+
+    events: tuple[SeafloorParallelEvent, ...]
+    flattened: np.ndarray
+    """Panel mapped to time below the seafloor, (n_traces, n_below)."""
+    semblance: np.ndarray
+    """Seafloor-parallel semblance on the mapped panel, (n_traces, n_below)."""
+    stratal_dip_samples_per_trace: np.ndarray
+    """Banded mean stratal dip relative to the seafloor, (n_traces, n_below)."""
+
+
+def find_seafloor_parallel_events(
+    data: np.ndarray,
+    dt_ms: float,
+    t0_ms: float,
+    seafloor_twt_ms: np.ndarray,
+    reference_amplitude: float,
+    *,
+    search_from_ms: float,
+    search_to_ms: float,
+    window_traces: int,
+    window_ms: float,
+    min_semblance: float,
+    min_semblance_gain: float,
+    min_relative_amplitude: float,
+    min_rms_dip_samples_per_trace: float | np.ndarray,
+    guard_ms: float,
+    band_ms: float,
+    min_extent_traces: int,
+    max_gap_traces: int,
+    max_dip_samples_per_trace: float,
+    exclude_twt_below_seafloor_ms: np.ndarray | None = None,
+    exclude_half_width_ms: float = 0.0,
+) -> EventSearch:
+    """Seafloor-parallel events by semblance along constant time below the seafloor (Neidell & Taner 1971).
+
+    Parameters
+    ----------
+    data : ndarray of shape (n_traces, n_samples)
+        The panel.
+    dt_ms, t0_ms : float
+        Sample interval and first-sample time.
+    seafloor_twt_ms : ndarray of shape (n_traces,)
+        Seafloor time per trace; NaN where unknown.
+    reference_amplitude : float
+        Typical absolute seafloor amplitude; events weaker than ``min_relative_amplitude`` of it are ignored.
+    search_from_ms, search_to_ms : float
+        Window of time below the seafloor searched (the first keeps the seafloor wavelet out).
+    window_traces : int
+        Lateral semblance and stratal-dip window, traces.
+    window_ms : float
+        Time window of the semblance, ms.
+    min_semblance : float
+        Least seafloor-parallel semblance of an event point.
+    min_semblance_gain : float
+        Least excess of the seafloor-parallel semblance over the semblance along the
+        stratal dip at an event point: the event must be more coherent along the seafloor
+        than along the strata.
+    min_relative_amplitude : float
+        Least envelope of the seafloor-parallel stack relative to ``reference_amplitude``.
+    min_rms_dip_samples_per_trace : float or ndarray of shape (n_below,)
+        Least RMS stratal dip relative to the seafloor around an event point (may vary with
+        time below the seafloor, since the angle it stands for depends on velocity).
+    guard_ms, band_ms : float
+        The stratal dip is measured between ``guard_ms`` and ``band_ms`` above and below each point.
+    min_extent_traces, max_gap_traces : int
+        Least extent of an event, and the widest gap bridged inside one.
+    max_dip_samples_per_trace : float
+        Structure-tensor dips steeper than this are treated as noise and left out of the
+        stratal dip (they would alias in the data anyway).
+    exclude_twt_below_seafloor_ms : ndarray of shape (n_traces, m), optional
+        Times below the seafloor where events are not looked for (e.g. predicted multiples), per trace.
+    exclude_half_width_ms : float
+        Half width of those exclusion windows.
+
+    Returns
+    -------
+    EventSearch
+    """
+    flattened, valid = flatten_on_seafloor(data, dt_ms, t0_ms, seafloor_twt_ms, search_to_ms + band_ms)
+    n_traces, n_below = flattened.shape
+    window_samples = max(1, int(round(window_ms / dt_ms)) | 1)
+    semblance, lateral_mean, valid_fraction = seafloor_parallel_semblance(flattened, valid, window_traces, window_samples)
+    envelope = np.abs(hilbert(lateral_mean, axis=1))
+    guard_samples = max(1, int(round(guard_ms / dt_ms)))
+    band_samples = max(guard_samples + 1, int(round(band_ms / dt_ms)))
+    local_max = envelope >= maximum_filter1d(envelope, 2 * guard_samples + 1, axis=1, mode="constant")
+
+    rows = np.arange(n_below) * dt_ms
+    in_window = (rows >= search_from_ms) & (rows <= search_to_ms)
+    candidate = (valid[:, None] & (valid_fraction[:, None] >= 0.8) & in_window[None, :]
+                 & (semblance >= min_semblance) & local_max
+                 & (envelope >= min_relative_amplitude * abs(reference_amplitude)))
+    if exclude_twt_below_seafloor_ms is not None and exclude_half_width_ms > 0:
+        for column in np.atleast_2d(np.asarray(exclude_twt_below_seafloor_ms, dtype=float).T):
+            near = np.abs(rows[None, :] - column[:, None]) <= exclude_half_width_ms
+            candidate &= ~np.where(np.isfinite(column)[:, None], near, False)
+
+    field = structure_tensor_dip(flattened)
+    weight = field.coherence * valid[:, None]
+    # near-vertical normals in noise give unbounded dips: leave them out of the stratal dip
+    stratal_dip = np.clip(field.dip_samples_per_trace, -max_dip_samples_per_trace, max_dip_samples_per_trace)
+    weight = np.where(np.abs(field.dip_samples_per_trace) <= max_dip_samples_per_trace, weight, 0.0)
+    mean_dip, rms_dip = banded_stratal_dip(stratal_dip, weight, window_traces, guard_samples, band_samples)
+    threshold = np.broadcast_to(np.asarray(min_rms_dip_samples_per_trace, dtype=float), (n_below,))
+    candidate &= rms_dip >= threshold[None, :]
+    trace_points, sample_points = np.nonzero(candidate)
+    if trace_points.size:
+        along_strata = dip_steered_semblance(flattened, trace_points, sample_points,
+                                             mean_dip[trace_points, sample_points], window_traces, window_samples)
+        gain = semblance[trace_points, sample_points] - along_strata  # more coherent along the seafloor than the strata
+        candidate[trace_points[gain < min_semblance_gain], sample_points[gain < min_semblance_gain]] = False
+
+    events: list[SeafloorParallelEvent] = []
+    if candidate.any():
+        bridge = np.ones((2 * max_gap_traces + 1, 3), dtype=bool)
+        labels, count = label(binary_dilation(candidate, structure=bridge), structure=np.ones((3, 3), dtype=bool))
+        for number in range(1, count + 1):
+            points = candidate & (labels == number)
+            traces = np.flatnonzero(points.any(axis=1))
+            if traces.size == 0 or traces[-1] - traces[0] + 1 < min_extent_traces:
+                continue
+            strength = np.where(points[traces], envelope[traces], -1.0)
+            samples = np.argmax(strength, axis=1)
+            events.append(_measure_event(flattened, semblance, mean_dip, rms_dip, traces, samples,
+                                         dt_ms, window_traces, window_samples))
+    events.sort(key=lambda event: (float(np.median(event.twt_below_seafloor_ms)), int(event.trace_index[0])))
+    return EventSearch(events=tuple(events), flattened=flattened, semblance=semblance,
+                       stratal_dip_samples_per_trace=mean_dip)
+
+
+def _measure_event(flattened: np.ndarray, semblance: np.ndarray, mean_dip: np.ndarray, rms_dip: np.ndarray,
+                   traces: np.ndarray, samples: np.ndarray, dt_ms: float, window_traces: int,
+                   window_samples: int) -> SeafloorParallelEvent:
+    """Per-trace time, signed amplitude and coherences of one event."""
+    snap = np.clip(samples[:, None] + np.arange(-2, 3)[None, :], 0, flattened.shape[1] - 1)
+    lobe = flattened[traces[:, None], snap]
+    strongest = np.argmax(np.abs(lobe), axis=1)
+    amplitude = lobe[np.arange(traces.size), strongest]
+    strata_dip = mean_dip[traces, samples]
+    along_strata = dip_steered_semblance(flattened, traces, samples, strata_dip, window_traces, window_samples)
+    return SeafloorParallelEvent(
+        trace_index=traces,
+        twt_below_seafloor_ms=samples * dt_ms,
+        amplitude=amplitude,
+        semblance_seafloor_parallel=semblance[traces, samples],
+        semblance_along_strata=along_strata,
+        stratal_dip_samples_per_trace=strata_dip,
+        stratal_rms_dip_samples_per_trace=rms_dip[traces, samples],
+    )
+
+
+# --- hydrate stability in time below the seafloor ----------------------------------------------
+def predicted_stability_base_twt_ms(seafloor_twt_ms: np.ndarray | float, velocity: VelocityModel,
+                                    seafloor_temperature_c: float, gradient_c_per_km: float) -> np.ndarray:
+    """Base of methane-hydrate stability (Dickens & Quinby-Hunt 1994) as two-way time below the seafloor.
+
+    Parameters
+    ----------
+    seafloor_twt_ms : float or ndarray
+        Seafloor two-way time; water depth = time x water velocity / 2.
+    velocity : VelocityModel
+        Water and sediment velocities for the conversions.
+    seafloor_temperature_c, gradient_c_per_km : float
+        Bottom-water temperature and geothermal gradient.
+
+    Returns
+    -------
+    ndarray
+        Time below the seafloor of the predicted base; NaN where no stability zone is predicted.
+    """
+    seafloor = np.atleast_1d(np.asarray(seafloor_twt_ms, dtype=float))
+    water_depth_m = velocity.water_depth_m(seafloor)  # Dw = t_sf v_w / 2
+    depth_m = np.array([stability_base_depth_m(float(depth), seafloor_temperature_c, gradient_c_per_km)
+                        for depth in water_depth_m])
+    twt = np.where(np.isfinite(depth_m), velocity.twt_below_seafloor_ms(np.nan_to_num(depth_m)), np.nan)
+    return twt if np.ndim(seafloor_twt_ms) else twt[0]
+
+
+def gradient_for_event_c_per_km(twt_below_seafloor_ms: float, seafloor_twt_ms: float, velocity: VelocityModel,
+                                seafloor_temperature_c: float) -> float:
+    """Geothermal gradient that puts the Dickens & Quinby-Hunt (1994) stability base at an observed event.
+
+    Parameters
+    ----------
+    twt_below_seafloor_ms : float
+        Observed time of the event below the seafloor.
+    seafloor_twt_ms : float
+        Seafloor time above it.
+    velocity : VelocityModel
+        Water and sediment velocities for the conversions.
+    seafloor_temperature_c : float
+        Bottom-water temperature.
+
+    Returns
+    -------
+    float
+        Gradient in degrees C per km; NaN when none puts the base there.
+    """
+    depth_m = float(velocity.depth_below_seafloor_m(twt_below_seafloor_ms))
+    water_depth_m = float(velocity.water_depth_m(seafloor_twt_ms))
+    return gradient_for_base_c_per_km(depth_m, water_depth_m, seafloor_temperature_c)
+
+
+def temperature_at_c(twt_below_seafloor_ms: float, velocity: VelocityModel, seafloor_temperature_c: float,
+                     gradient_c_per_km: float) -> float:
+    """Temperature at a time below the seafloor for a linear geotherm ``T = Tsf + G z`` (common practice)."""
+    depth_m = float(velocity.depth_below_seafloor_m(twt_below_seafloor_ms))
+    return seafloor_temperature_c + gradient_c_per_km * depth_m / 1000.0  # T(z) = Tsf + G z / 1000
+
+
+def stability_tolerance_ms(twt_below_seafloor_ms: float, tolerance_ms: float, tolerance_fraction: float) -> float:
+    """Match window for an observed event against the predicted base: the larger of a fixed time and a share."""
+    return max(tolerance_ms, tolerance_fraction * abs(twt_below_seafloor_ms))
+
+
+# --- picks against the stratal dip ----------------------------------------------------------
+def pick_departure_deg(pick_twt_ms: np.ndarray, reference_dip_ms_per_trace: np.ndarray,
+                       velocity_m_s: np.ndarray | float, trace_spacing_m: float, smooth_traces: int) -> np.ndarray:
+    """Angle between a pick's local slope and the reflection dip along it, degrees.
+
+    Parameters
+    ----------
+    pick_twt_ms : ndarray of shape (n_traces,)
+        Picked time per trace; NaN gaps.
+    reference_dip_ms_per_trace : ndarray of shape (n_traces,)
+        Dip the pick should follow, ms per trace; NaN where unknown.
+    velocity_m_s : float or ndarray of shape (n_traces,)
+        Interval velocity at the pick, for the time-to-depth angle.
+    trace_spacing_m : float
+        Distance between traces.
+    smooth_traces : int
+        The pick slope is a centred difference averaged over this many traces.
+
+    Returns
+    -------
+    ndarray of shape (n_traces,)
+        Pick angle minus reflection angle (signed), NaN where either is unknown.
+    """
+    twt = np.asarray(pick_twt_ms, dtype=float)
+    steps = np.vstack((np.concatenate(([np.nan], np.diff(twt))), np.concatenate((np.diff(twt), [np.nan]))))
+    count = np.isfinite(steps).sum(axis=0)
+    slope = np.where(count > 0, np.nansum(steps, axis=0) / np.maximum(count, 1), np.nan)  # centred difference, ms/trace
+    if smooth_traces > 1:
+        finite = np.isfinite(slope)
+        total = uniform_filter1d(np.where(finite, slope, 0.0), smooth_traces, mode="constant")
+        share = uniform_filter1d(finite.astype(float), smooth_traces, mode="constant")
+        slope = np.where(finite & (share > 0), total / np.maximum(share, _TINY), np.nan)
+    pick_angle = dip_angle_deg(slope, velocity_m_s, trace_spacing_m)
+    reflection_angle = dip_angle_deg(reference_dip_ms_per_trace, velocity_m_s, trace_spacing_m)
+    return pick_angle - reflection_angle
