@@ -236,6 +236,9 @@ def _checked_value(path: str, dotted: str, value: Any, spec: KeySpec, is_default
             problem = f"is {_shown(value)} ({_describe(value)}), but it must be {word}"
         if kind in (float, int):
             fix = f"write {word}{range_hint}, without quotes"
+            if isinstance(value, str) and _reads_as_number(value):
+                fix = (f"YAML reads {value.strip()} as text; write {word}{range_hint} without quotes, "
+                       "and write an exponent with a point and a sign (1.0e+3, not 1e3)")
         elif kind is bool:
             fix = "write true or false"
         else:
@@ -255,6 +258,14 @@ def _checked_value(path: str, dotted: str, value: Any, spec: KeySpec, is_default
                 raise PitfallsInputError(path, dotted, f"is {_shown(value)}, too large for a number",
                                          fix=_default_fix(is_default, f"write {word}{range_hint}")) from err
     return value
+
+
+def _reads_as_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
 
 
 def _describe(value: Any) -> str:
