@@ -298,10 +298,6 @@ class _Parsed:
     fields: dict[str, str]
 
 
-def _cell(cells: list[str], position: int) -> str:
-    return cells[position] if position < len(cells) else ""
-
-
 def _whole_number(path: str, row: int, column: str, cell: str) -> int:
     text = cell.strip()
     if not text:
@@ -342,7 +338,7 @@ def _time_ms(path: str, row: int, column: str, cell: str) -> float:
             fix = f"write {column} with a decimal point, not a comma, or leave the cell empty for a gap"
         raise PitfallsInputError(path, f"row {row}", f"{column} is {_shown(cell)}, not a number",
                                  fix=fix) from None
-    if math.isnan(value) or _is_null(value):
+    if math.isnan(value) or (value < 0 and _is_null(value)):
         return math.nan
     if math.isinf(value):
         raise PitfallsInputError(path, f"row {row}", f"{column} is {_shown(cell)}, not a finite time",
@@ -361,29 +357,31 @@ def _parse_row(path: str, row: int, cells: list[str], header: list[str], roles: 
         raise PitfallsInputError(path, f"row {row}",
                                  f"the row has {len(cells)} cells but the header names {len(header)} columns",
                                  fix="delete the extra cells or add their column names to the header")
-    horizon = _cell(cells, roles["horizon"]).strip()
+    if len(cells) < len(header):
+        cells = cells + [""] * (len(header) - len(cells))
+    horizon = cells[roles["horizon"]].strip()
     if not horizon:
         raise PitfallsInputError(path, f"row {row}", "horizon is empty",
                                  fix="write the name of the picked surface in every pick row")
     stated_kind = ""
     if "kind" in roles:
-        kind_cell = _cell(cells, roles["kind"])
+        kind_cell = cells[roles["kind"]]
         stated_kind = kind_cell.strip().lower()
         if stated_kind and stated_kind not in PICK_KINDS:
             raise PitfallsInputError(path, f"row {row}", f"kind is {_shown(kind_cell)}, which is not a known kind",
                                      fix=f"use one of {', '.join(PICK_KINDS)}, or leave the cell empty for horizon")
     trace = inline = xline = None
     if "trace" in roles:
-        trace = _whole_number(path, row, "trace", _cell(cells, roles["trace"]))
+        trace = _whole_number(path, row, "trace", cells[roles["trace"]])
         if trace < 1:
             raise PitfallsInputError(path, f"row {row}", f"trace is {trace}, but trace numbers start at 1",
                                      fix="number the traces 1, 2, 3 ... in file order")
     else:
-        inline = _whole_number(path, row, "inline", _cell(cells, roles["inline"]))
-        xline = _whole_number(path, row, "xline", _cell(cells, roles["xline"]))
+        inline = _whole_number(path, row, "inline", cells[roles["inline"]])
+        xline = _whole_number(path, row, "xline", cells[roles["xline"]])
     column = "twt_ms" if "twt_ms" in roles else "twt_s"
-    twt_ms = _time_ms(path, row, column, _cell(cells, roles[column]))
-    fields = {name: _cell(cells, position) for position, name in enumerate(header)}
+    twt_ms = _time_ms(path, row, column, cells[roles[column]])
+    fields = dict(zip(header, cells))
     return _Parsed(row, horizon, stated_kind, trace, inline, xline, twt_ms, fields)
 
 
