@@ -62,6 +62,7 @@ MILLISECONDS_LIMIT_S = 100.0
 DUPLICATE_TOLERANCE_MS = 1e-6
 """Two picks of one trace within this many ms of each other agree."""
 _SHOWN_CHARACTERS = 40
+_KNOWN_COLUMNS = ("horizon", "trace", "inline", "xline", "twt_ms", "twt_s", "kind")
 
 
 @dataclass(frozen=True)
@@ -247,7 +248,8 @@ def _columns(path: str, header: list[str]) -> dict[str, int]:
 
 def _missing_column(path: str, header: list[str], wanted: str, problem: str) -> PitfallsInputError:
     found = [cell.strip() for cell in header if cell.strip()]
-    close = difflib.get_close_matches(wanted, [name.lower() for name in found], n=1, cutoff=0.6)
+    others = [name.lower() for name in found if name.lower() not in _KNOWN_COLUMNS]
+    close = difflib.get_close_matches(wanted, others, n=1, cutoff=0.6)
     fix = f"name the column {wanted}"
     if close:
         fix = f"rename column '{close[0]}' to {wanted}" if close[0] != wanted else fix
