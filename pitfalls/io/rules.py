@@ -237,8 +237,11 @@ def _checked_value(path: str, dotted: str, value: Any, spec: KeySpec, is_default
         if kind in (float, int):
             fix = f"write {word}{range_hint}, without quotes"
             if isinstance(value, str) and _reads_as_number(value):
-                fix = (f"YAML reads {value.strip()} as text; write {word}{range_hint} without quotes, "
-                       "and write an exponent with a point and a sign (1.0e+3, not 1e3)")
+                if "e" in value.lower():
+                    fix = (f"YAML reads {value.strip()} as text; write {word}{range_hint}, with an exponent "
+                           "written with a point and a sign (1.0e+3, not 1e3)")
+                else:
+                    fix = f"remove the quotes around {value.strip()}; write {word}{range_hint}"
         elif kind is bool:
             fix = "write true or false"
         else:

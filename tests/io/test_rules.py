@@ -146,7 +146,7 @@ USER_ERRORS = [
     ("no close key", "fake:\n  zzz: 3\n", "fake.zzz", ["valid keys in fake are window_ms, orders, enabled"]),
     ("number key", "fake:\n  12: 3\n", "fake.12", ["unknown key"]),
     ("section not mapping", "fake: 3\n", "fake", ["not a section", "indent"]),
-    ("text for float", "fake:\n  window_ms: '12'\n", "fake.window_ms", ["text", "must be a number", "without quotes"]),
+    ("text for float", "fake:\n  window_ms: '12'\n", "fake.window_ms", ["'12' (text)", "must be a number", "remove the quotes around 12"]),
     ("bool for float", "fake:\n  window_ms: true\n", "fake.window_ms", ["true", "must be a number"]),
     ("bool for int", "fake:\n  orders: yes\n", "fake.orders", ["true/false", "must be a whole number"]),
     ("float for int", "fake:\n  orders: 3.5\n", "fake.orders", ["3.5", "must be a whole number", "from 2 to 10"]),
