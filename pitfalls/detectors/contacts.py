@@ -49,7 +49,8 @@ reservoir top that traps it. Each pick of kind ``contact`` is measured against t
   ``flat_min_length_m`` are reported, longest first, at most ``flat_max_findings``: low, or medium
   when their RMS amplitude is at least ``flat_bright_ratio`` times that of the surrounding window.
   Confidence = median coherence x min(1, length / (2 flat_min_length_m)). The evidence says
-  whether the patch sits on twice the seafloor time (the first seafloor multiple).
+  whether the patch sits within ``stratal_exclude_ms`` of n times the seafloor time (n >= 2: a
+  seafloor multiple) and of which order.
 
 Depth here is only as good as the rules' velocity model: a velocity anomaly it does not know
 (a gas column, a channel fill) shows up as a tilt.
@@ -635,7 +636,12 @@ def _unpicked_flat_events(section: Section, picks: Picks, field: DipField, inter
         amplitude_ratio = event_rms / window_rms if window_rms > 0 else 0.0
         twt_ms = section.twt_ms[sample_index]
         median_twt = float(np.median(twt_ms))
-        first_multiple_ms = 2.0 * seafloor_twt_ms[trace_index] - section.t0_ms
+        seafloor_here_ms = seafloor_twt_ms[trace_index]
+        ratio = twt_ms[seafloor_here_ms > 0] / seafloor_here_ms[seafloor_here_ms > 0]
+        order = int(np.rint(np.median(ratio))) if ratio.size else 0
+        # order-n surface multiple of the seafloor arrives at n x t_sf (REFERENCES item 1)
+        multiple_misfit_ms = float(np.median(np.abs(twt_ms - order * seafloor_here_ms))) if order >= 2 else np.inf
+        on_multiple = multiple_misfit_ms <= settings["stratal_exclude_ms"]
         evidence = {
             "twt_ms_median": median_twt,
             "length_m": float(length_m),
@@ -647,7 +653,8 @@ def _unpicked_flat_events(section: Section, picks: Picks, field: DipField, inter
             "stratal_dip_deg_below_median": float(np.median(below_deg[trace_index, sample_index])),
             "flat_in_time_fraction": float(np.mean(np.abs(time_deg[trace_index, sample_index]) <= flat_limit)),
             "amplitude_ratio": amplitude_ratio,
-            "near_seafloor_multiple": bool(np.median(np.abs(twt_ms - first_multiple_ms)) <= settings["stratal_exclude_ms"]),
+            "near_seafloor_multiple": bool(on_multiple),
+            "seafloor_multiple_order": order if on_multiple else 0,
         }
         severity = "medium" if amplitude_ratio >= settings["flat_bright_ratio"] else "low"
         scale = min(1.0, length_m / (2.0 * min_length_m)) if min_length_m > 0 else 1.0

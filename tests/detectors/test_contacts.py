@@ -212,6 +212,7 @@ def test_flat_seafloor_multiple_is_named_as_such():
     finding = only(findings, "contact.unpicked-flat-event")
     assert finding.evidence["twt_ms_median"] == pytest.approx(1600.0, abs=16.0)
     assert finding.evidence["near_seafloor_multiple"] is True
+    assert finding.evidence["seafloor_multiple_order"] == 2
 
 
 # --- contract -------------------------------------------------------------------------------------
