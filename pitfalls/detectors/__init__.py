@@ -8,9 +8,12 @@ from __future__ import annotations
 
 from types import ModuleType
 
-from pitfalls.detectors import pick_consistency
+from pitfalls.detectors import contacts, crosscut, multiples, pick_consistency
 
 DETECTORS: tuple[ModuleType, ...] = (
+    multiples,
+    contacts,
+    crosscut,
     pick_consistency,
 )
 BY_NAME: dict[str, ModuleType] = {module.NAME: module for module in DETECTORS}
