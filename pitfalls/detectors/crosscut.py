@@ -40,14 +40,18 @@ majority polarity); a hydrate-like event that agrees with the predicted stabilit
 prediction is what makes it likely.
 
 Picks. For each picked horizon (kind ``horizon``) the pick slope, averaged over
-``pick_slope_traces``, is compared as an angle in depth with the reflection dip along it (the
-structure-tensor dip of the section, or, where the pick lies within ``pick_on_event_ms`` of a
-seafloor-parallel event, the stratal dip around the event, since there the event itself would
-set the local dip). Runs of at least ``min_pick_run_traces`` traces where the two differ by more
-than ``max_pick_angle_deg`` are ``pick.crosses-reflections``; a run that lies mostly on a
-seafloor-parallel event is ``crosscut.pick-follows-boundary`` (high), with the trace where the
-pick leaves the strata. The id ``pick.crosses-reflections`` belongs to the ``pick`` family but
-is made here, because it comes from the same dip comparison. Confidence of a pick run:
+``pick_slope_traces``, is compared as an angle in depth with the reflection dip along it: the
+structure-tensor dip of the section (trusted where its linearity is at least
+``min_dip_linearity``), or, within ``band_ms`` of a seafloor-parallel event, the stratal dip
+measured around the event, because there the event (and, under a hydrate boundary, the
+free-gas base below it) would set the local dip. Runs of at least ``min_pick_run_traces``
+traces where the two differ by more than ``max_pick_angle_deg`` become:
+``crosscut.pick-follows-boundary`` (high) when most of the run lies within ``pick_on_event_ms``
+of the event, with the trace where the pick leaves the strata (``jump_trace``); otherwise
+``pick.crosses-reflections``, counted only where the data aligned on the pick have a semblance
+below ``min_semblance`` (a pick that follows one coherent reflection is following something).
+The id ``pick.crosses-reflections`` belongs to the ``pick`` family but is made here, because it
+comes from the same dip comparison. Confidence of a pick run:
 ``min(1, median |departure| / (3 * max_pick_angle_deg))``, raised to at least the run's share on
 the event for ``crosscut.pick-follows-boundary``.
 
@@ -79,6 +83,7 @@ from pitfalls.physics.crosscut import (
     find_seafloor_parallel_events,
     gradient_for_event_c_per_km,
     pick_departure_deg,
+    semblance_along_path,
     predicted_stability_base_twt_ms,
     stability_tolerance_ms,
     temperature_at_c,
@@ -339,7 +344,7 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
     on_event = np.zeros(n_traces, dtype=bool)
     for event_twt, event_dip in _event_time_per_trace(search, seafloor, n_traces):
         distance_ms = np.abs(pick_twt - event_twt)
-        near = np.isfinite(distance_ms) & (distance_ms <= settings["guard_ms"])
+        near = np.isfinite(distance_ms) & (distance_ms <= settings["band_ms"])  # where the stratal dip was measured
         reference_ms = np.where(near, event_dip * dt_ms + seafloor_slope, reference_ms)  # stratal dip, not the event's
         on_event |= near & (distance_ms <= settings["pick_on_event_ms"])
 
@@ -347,25 +352,43 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
     interval_velocity = velocity.interval_velocity_m_s(depth_below_m)
     departure = pick_departure_deg(pick_twt, reference_ms, interval_velocity, section.trace_spacing_m, smooth)
     limit = float(settings["max_pick_angle_deg"])
-    runs = true_runs(np.abs(np.nan_to_num(departure, nan=0.0)) > limit, max_gap=2,
-                     min_length=int(settings["min_pick_run_traces"]))
+    window_samples = max(1, int(round(settings["window_ms"] / dt_ms)) | 1)
+    path_semblance = semblance_along_path(section.data, dt_ms, section.t0_ms, pick_twt, int(settings["window_traces"]),
+                                          window_samples)
+    incoherent = ~(path_semblance >= settings["min_semblance"])  # a pick on one coherent reflection follows something
+    departs = (np.abs(np.nan_to_num(departure, nan=0.0)) > limit) & (on_event | incoherent)
+    min_run = int(settings["min_pick_run_traces"])
+    runs = true_runs(departs, max_gap=2, min_length=min_run)
+    spans: list[tuple[int, int, bool]] = []  # (first, last, follows the boundary)
+    beyond = np.abs(np.nan_to_num(departure, nan=0.0)) > limit
+    for first, last in true_runs(on_event, max_gap=2, min_length=min_run):
+        if np.mean(beyond[first:last + 1]) < 0.5:
+            continue  # the pick crosses the event with the strata
+        for run_first, run_last in runs:  # join the ramp onto the event and any departures along it
+            if run_first <= last + 3 and run_last >= first - 3:
+                first, last = min(first, run_first), max(last, run_last)
+        spans.append((first, last, True))
+    for run_first, run_last in runs:
+        if not any(run_first <= last and run_last >= first for first, last, _ in spans):
+            spans.append((run_first, run_last, False))
     findings: list[Finding] = []
-    for first, last in runs:
+    for first, last, follows in sorted(spans):
         span = slice(first, last + 1)
         run_departure = np.abs(departure[span][np.isfinite(departure[span])])
-        median_departure = float(np.median(run_departure))
+        median_departure = float(np.median(run_departure)) if run_departure.size else 0.0
         share_on_event = float(np.mean(on_event[span]))
         confidence = min(1.0, median_departure / (3.0 * limit))
         first_number, last_number = int(section.trace_numbers[first]), int(section.trace_numbers[last])
         times = pick_twt[span][np.isfinite(pick_twt[span])]
         evidence: dict[str, Any] = {
             "departure_deg_median": median_departure,
-            "departure_deg_max": float(run_departure.max()),
+            "departure_deg_max": float(run_departure.max()) if run_departure.size else 0.0,
             "run_traces": last - first + 1,
             "share_on_boundary": share_on_event,
+            "semblance_along_pick": float(np.nanmedian(path_semblance[span])) if np.isfinite(path_semblance[span]).any() else 0.0,
             "max_departure_deg": limit,
         }
-        if share_on_event >= 0.5:
+        if follows:
             jump_index = first if first > picked[0] else min(last + 1, picked[-1])
             evidence["jump_trace"] = int(section.trace_numbers[jump_index])
             evidence["jump_twt_ms"] = float(pick_twt[jump_index])

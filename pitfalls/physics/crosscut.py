@@ -229,7 +229,8 @@ class SeafloorParallelEvent:
     semblance_along_strata: np.ndarray
     """Semblance along the stratal dip of the bands around the event, shape (n,)."""
     stratal_dip_samples_per_trace: np.ndarray
-    """Signed dip of the strata relative to the seafloor (mapped panel), shape (n,)."""
+    """Signed dip of the strata relative to the seafloor (mapped panel; weighted median of the bands
+    above and below), shape (n,)."""
     stratal_rms_dip_samples_per_trace: np.ndarray
     """RMS dip of the strata relative to the seafloor, shape (n,)."""
 
@@ -364,22 +365,24 @@ def find_seafloor_parallel_events(
                 continue
             strength = np.where(points[traces], envelope[traces], -1.0)
             samples = np.argmax(strength, axis=1)
-            events.append(_measure_event(flattened, semblance, mean_dip, rms_dip, traces, samples,
-                                         dt_ms, window_traces, window_samples))
+            events.append(_measure_event(flattened, semblance, stratal_dip, weight, rms_dip, traces, samples,
+                                         dt_ms, window_traces, window_samples, guard_samples, band_samples))
     events.sort(key=lambda event: (float(np.median(event.twt_below_seafloor_ms)), int(event.trace_index[0])))
     return EventSearch(events=tuple(events), flattened=flattened, semblance=semblance,
                        stratal_dip_samples_per_trace=mean_dip)
 
 
-def _measure_event(flattened: np.ndarray, semblance: np.ndarray, mean_dip: np.ndarray, rms_dip: np.ndarray,
-                   traces: np.ndarray, samples: np.ndarray, dt_ms: float, window_traces: int,
-                   window_samples: int) -> SeafloorParallelEvent:
-    """Per-trace time, signed amplitude and coherences of one event."""
+def _measure_event(flattened: np.ndarray, semblance: np.ndarray, stratal_dip: np.ndarray, weight: np.ndarray,
+                   rms_dip: np.ndarray, traces: np.ndarray, samples: np.ndarray, dt_ms: float, window_traces: int,
+                   window_samples: int, guard_samples: int, band_samples: int) -> SeafloorParallelEvent:
+    """Per-trace time, signed amplitude, stratal dip and coherences of one event."""
     snap = np.clip(samples[:, None] + np.arange(-2, 3)[None, :], 0, flattened.shape[1] - 1)
     lobe = flattened[traces[:, None], snap]
     strongest = np.argmax(np.abs(lobe), axis=1)
     amplitude = lobe[np.arange(traces.size), strongest]
-    strata_dip = mean_dip[traces, samples]
+    strata_dip = np.array([_band_median_dip(stratal_dip, weight, int(trace), int(sample), window_traces // 2,
+                                            guard_samples, band_samples)
+                           for trace, sample in zip(traces, samples)])
     along_strata = dip_steered_semblance(flattened, traces, samples, strata_dip, window_traces, window_samples)
     return SeafloorParallelEvent(
         trace_index=traces,
@@ -390,6 +393,22 @@ def _measure_event(flattened: np.ndarray, semblance: np.ndarray, mean_dip: np.nd
         stratal_dip_samples_per_trace=strata_dip,
         stratal_rms_dip_samples_per_trace=rms_dip[traces, samples],
     )
+
+
+def _band_median_dip(dip: np.ndarray, weight: np.ndarray, trace: int, sample: int, half_traces: int,
+                     guard_samples: int, band_samples: int) -> float:
+    """Weighted median of the dip in the bands above and below one point: other seafloor-parallel
+    reflections in the band (a free-gas base, the seafloor) are a minority and do not pull it."""
+    low, high = max(0, trace - half_traces), min(dip.shape[0], trace + half_traces + 1)
+    above = slice(max(0, sample - band_samples), max(0, sample - guard_samples + 1))
+    below = slice(min(dip.shape[1], sample + guard_samples), min(dip.shape[1], sample + band_samples + 1))
+    values = np.concatenate((dip[low:high, above].ravel(), dip[low:high, below].ravel()))
+    weights = np.concatenate((weight[low:high, above].ravel(), weight[low:high, below].ravel()))
+    if weights.sum() <= _TINY:
+        return 0.0
+    order = np.argsort(values)
+    cumulative = np.cumsum(weights[order])
+    return float(values[order][np.searchsorted(cumulative, 0.5 * cumulative[-1])])
 
 
 # --- hydrate stability in time below the seafloor ----------------------------------------------
@@ -457,6 +476,40 @@ def stability_tolerance_ms(twt_below_seafloor_ms: float, tolerance_ms: float, to
 
 
 # --- picks against the stratal dip ----------------------------------------------------------
+def semblance_along_path(data: np.ndarray, dt_ms: float, t0_ms: float, path_twt_ms: np.ndarray,
+                         window_traces: int, window_samples: int) -> np.ndarray:
+    """Semblance (Neidell & Taner 1971) of the data aligned on a picked path, at every trace.
+
+    Parameters
+    ----------
+    data : ndarray of shape (n_traces, n_samples)
+        The panel; NaN is treated as 0.
+    dt_ms, t0_ms : float
+        Sample interval and first-sample time.
+    path_twt_ms : ndarray of shape (n_traces,)
+        Picked time per trace; NaN gaps.
+    window_traces, window_samples : int
+        Window across traces and along time.
+
+    Returns
+    -------
+    ndarray of shape (n_traces,)
+        Semblance in [0, 1] of the traces flattened on the path (gaps left out); NaN where the
+        pick is missing. A pick that follows one reflection scores high, one that cuts across
+        reflections low.
+    """
+    image = np.nan_to_num(np.asarray(data, dtype=np.float64), nan=0.0)
+    path_sample = (np.asarray(path_twt_ms, dtype=float) - t0_ms) / dt_ms
+    picked = np.isfinite(path_sample)
+    flattened = map_coordinates(image, [np.repeat(np.arange(image.shape[0], dtype=float)[:, None], window_samples, axis=1),
+                                        np.where(picked, path_sample, -1e6)[:, None]
+                                        + (np.arange(window_samples) - window_samples // 2)[None, :]],
+                                order=1, mode="constant", cval=0.0)
+    flattened[~picked] = 0.0
+    semblance, _, _ = seafloor_parallel_semblance(flattened, picked, window_traces, window_samples)
+    return np.where(picked, semblance[:, window_samples // 2], np.nan)
+
+
 def pick_departure_deg(pick_twt_ms: np.ndarray, reference_dip_ms_per_trace: np.ndarray,
                        velocity_m_s: np.ndarray | float, trace_spacing_m: float, smooth_traces: int) -> np.ndarray:
     """Angle between a pick's local slope and the reflection dip along it, degrees.
