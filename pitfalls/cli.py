@@ -159,7 +159,7 @@ def _demo(args: argparse.Namespace, stdout: Console) -> int:
     os.makedirs(args.out, exist_ok=True)
     written = write_demo(args.out)
     rules, rules_path, rules_sha = _load_rules(None)
-    result = scan(written["section"], [written["picks"]], rules, rules_path, rules_sha)
+    result = scan(written["segy"], [written["picks"]], rules, rules_path, rules_sha)
     stdout.print(render(result))
     figure_note = ""
     try:
@@ -170,9 +170,9 @@ def _demo(args: argparse.Namespace, stdout: Console) -> int:
         figure_note = f", figure {figure_path}"
     except PitfallsInputError as err:
         figure_note = f" (no figure: {err.problem})"
-    stdout.print(f"Demo files in {args.out}: section {written['section']}, picks {written['picks']}, "
+    stdout.print(f"Demo files in {args.out}: section {written['segy']}, picks {written['picks']}, "
                  f"truth {written['truth']}{figure_note}. Scan them yourself with:\n"
-                 f"  pitfalls scan {written['section']} --picks {written['picks']}")
+                 f"  pitfalls scan {written['segy']} --picks {written['picks']}")
     return EXIT_FINDINGS if result.failed else EXIT_OK
 
 

@@ -21,8 +21,9 @@ Polarity flip: the sign of the sample at each pick (strongest sample within
 ``snap_ms``) against the horizon's majority sign, counted only where the amplitude is at
 least ``min_amplitude_fraction`` of the horizon's median absolute amplitude (a pick on a
 zero crossing is not a flip). Runs of at least ``min_run_traces`` reversed traces are
-reported. Confidence is the run's share of reversed samples times a term that grows with
-the amplitude ratio.
+reported: medium from ``medium_min_traces`` traces on, low below that (short flips are
+mostly interference with a crossing event). Confidence is the run's share of reversed
+samples times a term that grows with the amplitude ratio.
 
 References
 ----------
@@ -62,6 +63,7 @@ RULE_KEYS = {
     "snap_ms": (float, 0.0, 50.0),
     "min_amplitude_fraction": (float, 0.0, 1.0),
     "min_run_traces": (int, 1, 100000),
+    "medium_min_traces": (int, 1, 100000),
     "max_gap_traces": (int, 0, 1000),
 }
 
@@ -148,10 +150,11 @@ def _polarity_flips(section: Section, horizon: Horizon, settings: Mapping[str, A
         share = float(np.mean(reversed_[stretch][np.isfinite(amplitude[stretch])]))
         ratio = float(np.nanmedian(np.abs(amplitude[stretch])) / np.nanmedian(np.abs(amplitude[strong & ~reversed_])))
         confidence = float(np.clip(share * min(1.0, 0.5 + 0.5 * ratio), 0.0, 1.0))
+        severity = "medium" if last - first + 1 >= settings["medium_min_traces"] else "low"
         first_number, last_number = int(section.trace_numbers[first]), int(section.trace_numbers[last])
         times = horizon.twt_ms[stretch][np.isfinite(horizon.twt_ms[stretch])]
         findings.append(Finding(
-            id="pick.polarity-flip", detector=NAME, severity="medium", confidence=confidence,
+            id="pick.polarity-flip", detector=NAME, severity=severity, confidence=confidence,
             title=(f"{horizon.name} is picked on the opposite polarity to the rest of the horizon "
                    f"over traces {first_number}-{last_number}"),
             advice=KINDS["polarity-flip"][2], horizon=horizon.name, traces=(first_number, last_number),
