@@ -37,8 +37,10 @@ def render(result: ScanResult) -> Group:
 
 def _picks_table(result: ScanResult) -> Table:
     table = Table(title="Picks", title_justify="left")
-    for column in ("horizon", "kind", "points", "gaps", "findings", "worst"):
-        table.add_column(column, justify="right" if column in ("points", "gaps", "findings") else "left")
+    for column in ("horizon", "kind", "points", "gaps", "findings"):
+        table.add_column(column, justify="right" if column in ("points", "gaps", "findings") else "left",
+                         no_wrap=column != "horizon")
+    table.add_column("first-ranked finding")
     worst = worst_by_horizon(result)
     for pick in result.picks:
         if pick.horizon in worst:
@@ -53,13 +55,17 @@ def _picks_table(result: ScanResult) -> Table:
 
 
 def _findings_table(result: ScanResult) -> Table:
-    table = Table(title="Findings, most important first", title_justify="left")
-    for column in ("#", "severity", "id", "horizon", "where", "twt", "conf.", "what"):
-        table.add_column(column, overflow="fold")
+    table = Table(title="Findings, most important first", title_justify="left", show_lines=True)
+    table.add_column("#", justify="right", no_wrap=True)
+    table.add_column("severity", no_wrap=True)
+    table.add_column("finding")
     for finding in result.findings:
-        table.add_row(str(finding.rank), Text(finding.severity, style=SEVERITY_STYLE[finding.severity]), finding.id,
-                      finding.horizon or "-", location(finding), time_window(finding), f"{finding.confidence:.2f}",
-                      finding.title)
+        cell = Text()
+        cell.append(finding.id, style="bold")
+        cell.append(f"  {finding.horizon or '(section)'}  {location(finding)}  {time_window(finding)}  "
+                    f"confidence {finding.confidence:.2f}\n")
+        cell.append(finding.title)
+        table.add_row(str(finding.rank), Text(finding.severity, style=SEVERITY_STYLE[finding.severity]), cell)
     return table
 
 
