@@ -11,7 +11,7 @@ dipping strata; deeper, an opal-A/opal-CT diagenetic front parallels it with the
 polarity. The section is modelled with every multiple (equal-time layered-earth recursion),
 a 25 Hz Ricker wavelet and band-limited noise.
 
-The pick file holds a seafloor pick, correct horizons, the genuine contact, and four
+The pick file holds a seafloor pick, correct horizons, the genuine contact, and three
 planted mistakes; the truth file lists what a checker should say about each of them.
 """
 from __future__ import annotations
@@ -28,7 +28,7 @@ from pitfalls.model import Horizon, Picks
 from pitfalls.modelling import shapes
 from pitfalls.modelling.earth import EarthModel, Overprint, Unit
 from pitfalls.modelling.section import ModelledSection, model_section
-from pitfalls.modelling.segy_writer import _write_whole, write_picks_csv, write_section_segy
+from pitfalls.modelling.segy_writer import write_whole, write_picks_csv, write_section_segy
 from pitfalls.physics.hydrate import stability_base_depth_m
 
 LINE_NAME = "QT24-117"
@@ -377,7 +377,7 @@ def write_demo(out_dir: str | os.PathLike) -> dict[str, Any]:
     picks_path = write_picks_csv(folder / f"{LINE_NAME}_picks.csv", scenario.pick_rows)
     truth_path = folder / f"{LINE_NAME}_truth.json"
     truth_text = json.dumps(scenario.truth, indent=2, sort_keys=True) + "\n"
-    _write_whole(truth_path, lambda temporary: temporary.write_text(truth_text, encoding="utf-8"))
+    write_whole(truth_path, lambda temporary: temporary.write_text(truth_text, encoding="utf-8"))
     return {
         "segy": str(segy_path),
         "picks": str(picks_path),

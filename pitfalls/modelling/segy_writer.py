@@ -60,7 +60,7 @@ def textual_header(lines: Sequence[str]) -> bytes:
     return "".join(cards).encode("ascii")
 
 
-def _write_whole(path: Path, write_into) -> None:
+def write_whole(path: str | os.PathLike, write_into) -> None:
     """Call ``write_into(temporary_path)`` and move the result onto ``path`` only if it succeeds."""
     path = Path(path)
     handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent or ".")
@@ -206,7 +206,7 @@ def write_section_segy(
     coordinates = np.stack([origin_x_m + along_m * np.sin(azimuth), origin_y_m + along_m * np.cos(azimuth)], axis=-1)[np.newaxis]
     text = textual_header(list(text_lines))
     path = Path(path)
-    _write_whole(
+    write_whole(
         path,
         lambda temporary: _write_traces(temporary, [section], [inline_number], trace_numbers, coordinates, sample_format, text, text_encoding),
     )
@@ -258,7 +258,7 @@ def write_volume_segy(
     coordinates = np.stack(np.broadcast_arrays(x_m[np.newaxis, :], y_m[:, np.newaxis]), axis=-1)
     text = textual_header(list(text_lines))
     path = Path(path)
-    _write_whole(
+    write_whole(
         path,
         lambda temporary: _write_traces(temporary, list(panels), list(inline_numbers), xline_numbers, coordinates, sample_format, text, text_encoding),
     )
@@ -308,5 +308,5 @@ def write_picks_csv(path: str | os.PathLike, rows: Iterable[Mapping[str, object]
     def write_into(temporary: Path) -> None:
         temporary.write_text(text, encoding="utf-8")
 
-    _write_whole(path, write_into)
+    write_whole(path, write_into)
     return path
