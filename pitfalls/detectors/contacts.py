@@ -12,10 +12,12 @@ reservoir top that traps it. Each pick of kind ``contact`` is measured against t
   above and below the contact (``stratal_exclude_ms`` to ``stratal_window_ms`` away, so the
   contact's own reflection is left out), kept where the coherence reaches ``min_coherence``.
   Dips are turned into angles with the interval velocity at the contact. Where the strata
-  dip by at least ``min_stratal_dip_deg`` and the contact runs within
-  ``conformable_max_angle_deg`` of them, the pick is parallel to the bedding there: probably
-  a stratigraphic reflector, not a fluid contact. Confidence = (share of dipping traces where
-  the contact is parallel) x (median coherence of the stratal samples).
+  dip by at least ``min_stratal_dip_deg``, the contact runs within the larger of
+  ``conformable_max_angle_deg`` and ``conformable_relative_angle`` x the stratal dip of them,
+  and the contact itself dips at least half as much as the strata, the pick is parallel to the
+  bedding there: probably a stratigraphic reflector, not a fluid contact. Confidence = (share
+  of dipping traces where the contact is parallel) x min(1, median coherence of the stratal
+  samples / 0.5): on a noisy stack a coherence of 0.5 already gives a dependable dip.
 * ``overburden-tilt``: flat in depth (tilt within ``max_depth_tilt_m_per_km``) but with a time
   relief of at least ``min_time_relief_ms``, and the contact time regressed on the seafloor time
   has the slope a flat reflector would have under this overburden, within
@@ -25,7 +27,9 @@ reservoir top that traps it. Each pick of kind ``contact`` is measured against t
 * ``tilted``: depth tilt above ``max_depth_tilt_m_per_km`` and a depth change across the
   contact of at least ``min_depth_change_m``. Evidence gives the potentiometric gradient that a
   Hubbert (1953) hydrodynamic tilt would need with gas and with oil over water; high when even
-  oil needs more than ``max_plausible_head_gradient_m_per_km``. Confidence =
+  oil needs more than ``max_plausible_head_gradient_m_per_km``, medium when oil could do it,
+  and low when the contact is flat in time (time relief under ``min_time_relief_ms``), because
+  then the depth tilt rests on the velocity model alone. Confidence =
   |tilt| / (|tilt| + max_depth_tilt_m_per_km), one half at the threshold.
 * ``polarity``: the sign of the strongest sample within ``polarity_snap_ms`` of the pick on each
   trace against the seafloor's sign. Confidence = share of traces with the reversed sign.
@@ -126,6 +130,7 @@ RULE_KEYS = {
     "min_contact_traces": (int, 2, 1000000),
     "min_stratal_dip_deg": (float, 0.0, 45.0),
     "conformable_max_angle_deg": (float, 0.0, 45.0),
+    "conformable_relative_angle": (float, 0.0, 1.0),
     "conformable_min_fraction": (float, 0.0, 1.0),
     "conformable_high_fraction": (float, 0.0, 1.0),
     "max_depth_tilt_m_per_km": (float, 0.0, 1000.0),
@@ -322,12 +327,16 @@ def _conformable(section: Section, geometry: _ContactGeometry, field: DipField, 
     if dipping_fraction < settings["conformable_min_fraction"] or not dipping.any():
         return []
     angle_between = np.abs(contact_deg - stratal_deg)
-    parallel = dipping & (angle_between <= settings["conformable_max_angle_deg"])
+    tolerance_deg = np.maximum(settings["conformable_max_angle_deg"],
+                               settings["conformable_relative_angle"] * np.abs(stratal_deg))
+    # parallel: close to the strata (absolute or relative tolerance) and dipping itself, so a
+    # flat contact in gently dipping strata never counts as parallel to them
+    parallel = dipping & (angle_between <= tolerance_deg) & (np.abs(contact_deg) >= 0.5 * np.abs(stratal_deg))
     parallel_fraction = float(parallel.sum() / dipping.sum())
     if parallel_fraction < settings["conformable_min_fraction"]:
         return []
     coherence = float(np.nanmedian(stratal_coherence[dipping]))
-    confidence = float(np.clip(parallel_fraction * coherence, 0.0, 1.0))
+    confidence = float(np.clip(parallel_fraction * min(1.0, coherence / 0.5), 0.0, 1.0))
     severity = "high" if parallel_fraction >= settings["conformable_high_fraction"] else "medium"
     first, last = _numbers(section, *geometry.traces)
     evidence = {
@@ -380,6 +389,9 @@ def _tilt(section: Section, geometry: _ContactGeometry, settings: Mapping[str, A
             "plausible_head_gradient_limit_m_per_km": plausible_limit,
         })
         severity = "medium" if oil_gradient <= plausible_limit else "high"
+        if severity == "medium" and geometry.time_relief_ms < settings["min_time_relief_ms"]:
+            severity = "low"  # flat in time: the depth tilt rests on the velocity model alone
+        evidence["time_relief_ms"] = geometry.time_relief_ms
         return [Finding(
             id="contact.tilted", detector=NAME, severity=severity,
             confidence=float(abs(tilt_m_per_km) / (abs(tilt_m_per_km) + limit)),
