@@ -74,6 +74,9 @@ def write_atomically(path: str, text: str | bytes) -> None:
     try:
         with os.fdopen(handle, "wb") as out:
             out.write(data)
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(temporary, 0o666 & ~umask)  # mkstemp makes 0600; give the file the usual mode
         os.replace(temporary, path)
     except BaseException:
         if os.path.exists(temporary):

@@ -117,24 +117,27 @@ NAME = "multiples"
 FAMILY = "multiple"
 KINDS = {
     "seafloor": (
-        "the pick follows a predicted seafloor multiple (n times the seafloor time)",
-        "energy that bounced between seafloor and sea surface builds structures and sequences that do not exist",
-        "overlay n x the seafloor times; compare near and far offset stacks; ask whether demultiple was run; tie to wells",
+        "The pick follows a predicted seafloor multiple (n times the seafloor time).",
+        "Energy that bounced between the seafloor and the sea surface builds structures and sequences that do not exist.",
+        "Overlay n times the seafloor times on the section; compare the pick's shape with the seafloor's; look at near- "
+        "and far-offset stacks (a multiple moves out more); ask whether demultiple processing was run; tie to wells.",
     ),
     "peg-leg": (
-        "the pick follows a peg-leg: a shallower reflector's time plus whole seafloor periods",
-        "a peg-leg copies the shape of a real reflector deeper down and looks like a conformable horizon",
-        "compare the pick with the generating reflector shifted by the seafloor time; check offset stacks and wells",
+        "The pick follows a peg-leg: a shallower reflector's time plus whole seafloor periods.",
+        "A peg-leg copies the shape of a real reflector deeper down and looks like a conformable horizon.",
+        "Compare the pick with the generating reflector shifted down by the seafloor time; check offset stacks and "
+        "well ties.",
     ),
     "interbed": (
-        "the pick follows a predicted interbed multiple between two strong reflectors (2 t2 - t1)",
-        "interbed multiples survive surface-multiple removal and mimic deeper layering",
-        "check whether the two generating reflectors are strong enough; compare with well synthetics",
+        "The pick follows a predicted interbed multiple between two strong reflectors (2 t2 - t1).",
+        "Interbed multiples survive surface-multiple removal and mimic deeper layering.",
+        "Check whether the two generating reflectors are strong enough to make it; compare with well synthetics.",
     ),
     "periodic": (
-        "the section reverberates at the seafloor period in this time window",
-        "picks inside the window may be multiples even where no single pick follows a predicted time",
-        "ask whether demultiple processing was applied; treat continuous events in the window with suspicion",
+        "The section reverberates at the seafloor period in this time window.",
+        "Picks inside the window may be multiples even where no single pick follows a predicted time.",
+        "Ask whether demultiple processing was applied; treat continuous events in the window with suspicion and "
+        "check them against the seafloor's shape.",
     ),
 }
 RULE_KEYS = {

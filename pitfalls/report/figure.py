@@ -2,7 +2,8 @@
 
 Red-blue diverging display clipped symmetrically at the 99th percentile of absolute
 amplitude; picks as coloured lines; each finding's trace range and time window as a box
-labelled with its rank; the predicted seafloor multiples (2x and 3x the seafloor time) as thin
+labelled with its rank (the ``MAX_BOXES`` best-ranked findings, so the section stays
+readable; the report lists the rest); the predicted seafloor multiples (2x and 3x the seafloor time) as thin
 dashed lines. A 3-D volume is drawn on the inline of its best-ranked finding (or its middle
 inline). matplotlib is imported only here, only when a figure is asked for.
 """
@@ -17,6 +18,7 @@ from pitfalls.engine import ScanResult
 from pitfalls.errors import PitfallsInputError
 
 SEVERITY_COLOUR = {"high": "#c00000", "medium": "#d08000", "low": "#2060a0"}
+MAX_BOXES = 10
 
 
 def require_matplotlib() -> None:
@@ -71,9 +73,9 @@ def draw(result: ScanResult, rules: Mapping[str, Any]) -> bytes:
     colours = plt.get_cmap("tab10")
     for index, horizon in enumerate(picks.horizons):
         style = {"contact": "--", "seafloor": ":"}.get(horizon.kind, "-")
-        axes.plot(numbers, horizon.twt_ms, style, color=colours(index % 10), linewidth=1.6,
+        axes.plot(numbers, horizon.twt_ms, style, color=colours(index % 10), linewidth=1.2, alpha=0.9,
                   label=f"{horizon.name} ({horizon.kind})")
-    for finding in result.findings:
+    for finding in result.findings[:MAX_BOXES]:
         span = finding.traces if section.inline_number is None else finding.xlines
         if span is None or finding.twt_ms is None:
             continue
@@ -91,7 +93,9 @@ def draw(result: ScanResult, rules: Mapping[str, Any]) -> bytes:
     axes.set_ylim(extent[2], extent[3])
     axes.set_xlabel("trace" if section.inline_number is None else f"crossline (inline {section.inline_number})")
     axes.set_ylabel("two-way time (ms)")
-    axes.set_title(f"{section.name}: picks and findings (boxes numbered by rank; screening aid, not a review)")
+    shown = min(MAX_BOXES, len(result.findings))
+    axes.set_title(f"{section.name}: picks and the {shown} best-ranked of {len(result.findings)} findings "
+                   "(boxes numbered by rank; a screening aid, not a review)")
     axes.legend(loc="lower left", fontsize=7, framealpha=0.85)
     figure.tight_layout()
     buffer = io.BytesIO()
