@@ -67,6 +67,8 @@ CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
         "weight_severity": (float, 0.0, 1.0),
         "weight_confidence": (float, 0.0, 1.0),
         "weight_extent": (float, 0.0, 1.0),
+        # Score factor for each earlier-ranked finding on the same horizon.
+        "repeat_factor": (float, 0.0, 1.0),
     },
 }
 
@@ -333,7 +335,7 @@ def _checked(path: str, document: Any, schema: Mapping[str, Mapping[str, KeySpec
 def _check_combinations(path: str, rules: Mapping[str, Mapping[str, Any]], is_default: bool) -> None:
     """Checks that involve more than one key."""
     ranking = rules.get("ranking", {})
-    weights = [name for name in CORE_KEYS["ranking"] if name in ranking]
+    weights = [name for name in CORE_KEYS["ranking"] if name.startswith("weight_") and name in ranking]
     if weights and sum(ranking[name] for name in weights) <= 0.0:
         raise PitfallsInputError(path, "ranking", "all ranking weights are zero, so no finding could be scored",
                                  fix=_default_fix(is_default, "give at least one weight a value above 0"))

@@ -4,8 +4,12 @@
 
 ``s`` is 1.0, 0.6 or 0.25 for high, medium or low severity; ``extent`` is the fraction of
 the section's traces (2-D) or inline x crossline positions (3-D) the finding covers, 0 for
-a finding with no range. The weights are ``ranking.weight_*`` in the rules. Ties are broken
-by severity, id, horizon and first trace, so the same findings always come in the same order.
+a finding with no range. The weights are ``ranking.weight_*`` in the rules.
+
+Then, in score order, a horizon's k-th finding (k = 0 for its best) has its score multiplied
+by ``ranking.repeat_factor`` ** k, so that the top of the report covers different picks
+before it repeats one; findings with no horizon are not discounted. Ties are broken by
+severity, id, horizon and first trace, so the same findings always come in the same order.
 """
 from __future__ import annotations
 
@@ -48,5 +52,13 @@ def rank_findings(findings: Sequence[Finding], info: SectionInfo, ranking: Mappi
         return (-round(finding.score, 12), SEVERITY_ORDER[finding.severity], finding.id,
                 finding.horizon or "", first)
 
-    ranked = sorted(scored, key=order)
+    seen: dict[str, int] = {}
+    discounted = []
+    for finding in sorted(scored, key=order):
+        if finding.horizon is not None:
+            repeats = seen.get(finding.horizon, 0)
+            seen[finding.horizon] = repeats + 1
+            finding = replace(finding, score=finding.score * ranking["repeat_factor"] ** repeats)
+        discounted.append(finding)
+    ranked = sorted(discounted, key=order)
     return tuple(replace(f, rank=index + 1) for index, f in enumerate(ranked))
