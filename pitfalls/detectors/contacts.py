@@ -33,6 +33,9 @@ reservoir top that traps it. Each pick of kind ``contact`` is measured against t
   |tilt| / (|tilt| + max_depth_tilt_m_per_km), one half at the threshold.
 * ``polarity``: the sign of the strongest sample within ``polarity_snap_ms`` of the pick on each
   trace against the seafloor's sign. Confidence = share of traces with the reversed sign.
+* A contact judged ``conformable`` (high) is following a bed, so its depth tilt and any breach of
+  the closure are consequences of that, not further problems: those findings are capped at
+  medium and carry ``explained_by: contact.conformable``.
 * ``outside-closure``: the nearest picked horizon above the contact is taken as the reservoir
   top. Its crest is found by following the top uphill from its shallowest point over the
   contact's traces to the top of that structure. From the crest the top is
@@ -70,6 +73,7 @@ References
 """
 from __future__ import annotations
 
+from dataclasses import replace
 from typing import Any, Mapping
 
 import numpy as np
@@ -209,16 +213,27 @@ def detect(section: Section, picks: Picks, rules: Mapping[str, Any]) -> list[Fin
         if picked.size < int(settings["min_contact_traces"]):
             continue
         geometry = _ContactGeometry(section, contact, picked, seafloor_twt_ms, velocity)
-        findings.extend(_conformable(section, geometry, field, interval_velocity_m_s, settings))
-        findings.extend(_tilt(section, geometry, settings))
+        conformable = _conformable(section, geometry, field, interval_velocity_m_s, settings)
+        consequences = _tilt(section, geometry, settings) + _closure(section, picks, geometry, seafloor_twt_ms,
+                                                                      velocity, settings)
+        if any(f.severity == "high" for f in conformable):
+            consequences = [_explained_by_strata(f) for f in consequences]
+        findings.extend(conformable)
+        findings.extend(consequences)
         findings.extend(_polarity(section, geometry, seafloor.polarity, settings))
-        findings.extend(_closure(section, picks, geometry, seafloor_twt_ms, velocity, settings))
     findings.extend(_unpicked_flat_events(section, picks, field, interval_velocity_m_s, seafloor_twt_ms,
                                           velocity, settings))
     return findings
 
 
 # --- shared measurements ---------------------------------------------------------------------
+
+def _explained_by_strata(finding: Finding) -> Finding:
+    """A tilt or closure breach of a contact that follows the strata is a consequence of that, not a
+    second problem: at most medium, and saying so in its evidence."""
+    severity = "medium" if finding.severity == "high" else finding.severity
+    return replace(finding, severity=severity, evidence={**finding.evidence, "explained_by": "contact.conformable"})
+
 
 def _filled(seafloor_twt_ms: np.ndarray, t0_ms: float) -> np.ndarray:
     """Seafloor time on every trace: gaps interpolated; the first sample's time where none was found."""
