@@ -171,7 +171,7 @@ def test_truncated_segy(line, tmp_path):
 def test_not_segy(tmp_path):
     text = tmp_path / "picks_by_mistake.sgy"
     text.write_text("horizon,trace,twt_ms\n" * 400)
-    assert_one_line_error(pitfalls("scan", text), "picks_by_mistake.sgy")
+    assert_one_line_error(pitfalls("scan", text), "picks_by_mistake.sgy", "is a text file", "not SEG-Y")
 
 
 def test_zero_traces(line, tmp_path):

@@ -253,14 +253,19 @@ def check_layout(path: str) -> None:
     ends in.
     """
     size = os.path.getsize(path)
-    if size < 3600:
-        raise PitfallsInputError(path, "", f"is {size} bytes, too short for SEG-Y (3600 bytes of headers come first)",
-                                 "check that this is the SEG-Y section and that the copy is complete")
     with open(path, "rb") as handle:
         head = handle.read(3600)
+    if size < 3600:
+        kind = "a text file" if head and all(32 <= b < 127 or b in b"\r\n\t" for b in head) else "a file"
+        raise PitfallsInputError(path, "", f"is {kind} of {size} bytes, too short for SEG-Y (3600 bytes of headers come first)",
+                                 "give the SEG-Y section first (pick files go after --picks), and check the copy is complete")
     n_samples = int.from_bytes(head[3220:3222], "big", signed=False)
     fmt = int.from_bytes(head[3224:3226], "big", signed=False)
     extended = int.from_bytes(head[3504:3506], "big", signed=True)
+    binary = head[3200:3600]
+    if fmt not in BYTES_PER_SAMPLE and b"\n" in binary and all(32 <= b < 127 or b in b"\r\n\t" for b in binary):
+        raise PitfallsInputError(path, "", "is a text file (lines of characters where the binary header should be), "
+                                 "not SEG-Y", "give the SEG-Y section first and pick files with --picks")
     if fmt not in BYTES_PER_SAMPLE:
         raise PitfallsInputError(path, "binary header byte 3225", f"has sample format code {fmt}, which SEG-Y does not define",
                                  "check that the file is SEG-Y (big-endian) and not another format")
