@@ -5,7 +5,8 @@
 Writes the files (a 1000-trace x 2000-sample line; a 200 x 200 x 1000 volume, about 170 MB),
 then for each: raw segyio read throughput (every trace, samples per second), the scan's
 throughput through the CLI with every detector (samples per second, measured in a child
-process), their ratio, each detector's seconds, and the child's peak resident memory.
+process), their ratio, each detector's seconds, and the child's peak resident memory; then
+the wall time of ``pitfalls demo``.
 Nothing here is asserted: the numbers are for the record and for spotting regressions.
 """
 from __future__ import annotations
@@ -140,6 +141,10 @@ def main() -> None:
         detectors = ", ".join(f"{name} {seconds:.2f}" for name, seconds in measured["detectors"].items())
         print(f"{label:32s} {raw_rate:20.1f} {scan_rate:16.2f} {scan_rate / raw_rate:8.4f} {measured['seconds']:8.1f} "
               f"{measured['peak_mib']:9.0f}  {detectors}")
+    demo_dir = os.path.join(args.out, "demo")
+    started = time.perf_counter()
+    subprocess.run([sys.executable, "-m", "pitfalls", "demo", "--out", demo_dir], capture_output=True, check=True)
+    print(f"pitfalls demo (model, write, scan, figure): {time.perf_counter() - started:.1f} s")
     print(f"benchmark process peak {resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024:.0f} MiB")
 
 
