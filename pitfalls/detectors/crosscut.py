@@ -70,6 +70,7 @@ References
 """
 from __future__ import annotations
 
+import dataclasses
 from typing import Any, Mapping
 
 import numpy as np
@@ -82,15 +83,19 @@ from pitfalls.physics.crosscut import (
     dip_angle_deg,
     find_seafloor_parallel_events,
     gradient_for_event_c_per_km,
+    path_slope_ms_per_trace,
     pick_departure_deg,
     semblance_along_path,
     predicted_stability_base_twt_ms,
     stability_tolerance_ms,
+    stratal_dip_along_path,
     temperature_at_c,
+    water_layer_peg_leg_flags,
+    water_layer_peg_leg_share,
 )
 from pitfalls.physics.dip import structure_tensor_dip
 from pitfalls.physics.runs import true_runs
-from pitfalls.physics.seafloor import Seafloor, find_seafloor
+from pitfalls.physics.seafloor import Seafloor, amplitude_at, find_seafloor
 from pitfalls.physics.velocity import VelocityModel
 
 NAME = "crosscut"
@@ -141,6 +146,11 @@ RULE_KEYS = {
     "min_pick_run_traces": (int, 1, 100000),
     "pick_on_event_ms": (float, 0.0, 100.0),
     "min_dip_linearity": (float, 0.0, 1.0),
+    "extend_min_semblance": (float, 0.0, 1.0),
+    "peg_leg_min_parent_ratio": (float, 0.0, 10.0),
+    "min_pick_divergence_ms": (float, 0.0, 500.0),
+    "pick_phase_share": (float, 0.5, 1.0),
+    "medium_pick_run_traces": (int, 1, 100000),
 }
 
 _EVENT_ADVICE = {
@@ -155,6 +165,8 @@ _FOLLOWS_ADVICE = ("From the named trace on, the pick runs along a boundary that
                    "follow the reflection the pick was on across the boundary, and re-pick it.")
 _CROSSES_ADVICE = ("Over these traces the pick does not follow the reflection dip. Check for a jump between reflections, a "
                    "fault, or noise, and re-pick along the reflection.")
+_CROSSES_ADVICE_PHASE = ("The measured dip disagrees with the pick here, but the pick keeps one phase, so it probably follows "
+                         "its reflection where a stronger event (a multiple or a boundary) crosses it. A quick look is enough.")
 
 
 def detect(section: Section, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
@@ -203,13 +215,18 @@ def _search_events(section: Section, seafloor: Seafloor, velocity: VelocityModel
         max_dip_samples_per_trace=float(settings["max_stratal_dip_ms_per_trace"]) / dt_ms,
         exclude_twt_below_seafloor_ms=multiples,
         exclude_half_width_ms=float(settings["multiple_guard_ms"]),
+        extend_min_semblance=float(settings["extend_min_semblance"]),
     )
+    guard_ms = float(settings["multiple_guard_ms"])
     kept: list[SeafloorParallelEvent] = []
     for event in search.events:  # shallowest first
-        if not any(_is_peg_leg(event, parent, seafloor_twt, float(settings["multiple_guard_ms"])) for parent in kept):
+        if any(_is_peg_leg(event, parent, seafloor_twt, guard_ms) for parent in kept):
+            continue
+        share = water_layer_peg_leg_share(search.stack, search.stack_envelope, dt_ms, seafloor_twt, event,
+                                          float(settings["peg_leg_min_parent_ratio"]), guard_ms)
+        if share < 0.5:  # most of it sits one seafloor time below a stronger event of opposite sign
             kept.append(event)
-    return EventSearch(events=tuple(kept), flattened=search.flattened, semblance=search.semblance,
-                       stratal_dip_samples_per_trace=search.stratal_dip_samples_per_trace)
+    return dataclasses.replace(search, events=tuple(kept))
 
 
 def _is_peg_leg(event: SeafloorParallelEvent, parent: SeafloorParallelEvent, seafloor_twt_ms: np.ndarray,
@@ -236,7 +253,8 @@ def _event_finding(event: SeafloorParallelEvent, section: Section, seafloor: Sea
     median_seafloor_ms = float(np.median(seafloor_twt))
     depth_below_m = float(velocity.depth_below_seafloor_m(median_below_ms))
     interval_velocity = float(velocity.interval_velocity_m_s(depth_below_m))
-    dip_ms = float(np.median(event.stratal_rms_dip_samples_per_trace)) * section.dt_ms
+    cutting = event.cutting  # the angle and the coherence gain are judged where the event was seen to cut
+    dip_ms = float(np.median(event.stratal_rms_dip_samples_per_trace[cutting])) * section.dt_ms
     angle_deg = float(dip_angle_deg(dip_ms, interval_velocity, section.trace_spacing_m))
     semblance = float(np.median(event.semblance_seafloor_parallel))
     amplitude_ratio = float(np.median(np.abs(event.amplitude) / np.abs(seafloor.amplitude[traces])))
@@ -252,11 +270,12 @@ def _event_finding(event: SeafloorParallelEvent, section: Section, seafloor: Sea
         "depth_below_seafloor_m": depth_below_m,
         "angle_to_strata_deg": angle_deg,
         "extent_traces": event.extent_traces,
+        "cutting_traces": int(np.sum(cutting)),
         "polarity_vs_seafloor": polarity,
         "polarity_share": polarity_share,
         "amplitude_vs_seafloor": amplitude_ratio,
         "semblance_seafloor_parallel": semblance,
-        "semblance_along_strata": float(np.median(event.semblance_along_strata)),
+        "semblance_along_strata": float(np.median(event.semblance_along_strata[cutting])),
         "water_depth_m": float(velocity.water_depth_m(median_seafloor_ms)),
         "seafloor_temperature_c": seafloor_temperature_c,
         "geothermal_gradient_c_per_km": gradient_c_per_km,
@@ -339,7 +358,8 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
     if finite_seafloor.sum() >= 2:
         filled = np.interp(np.arange(n_traces), np.flatnonzero(finite_seafloor), seafloor_twt[finite_seafloor])
         seafloor_slope = uniform_filter1d(np.gradient(filled), smooth, mode="nearest")
-    near_seafloor = ~(pick_twt - seafloor_twt > settings["search_from_ms"])
+    below_ms = pick_twt - seafloor_twt
+    near_seafloor = ~(below_ms > settings["search_from_ms"])
     reference_ms = np.where(near_seafloor, np.nan, reference_ms)  # the seafloor wavelet sets the dip there
     on_event = np.zeros(n_traces, dtype=bool)
     for event_twt, event_dip in _event_time_per_trace(search, seafloor, n_traces):
@@ -348,22 +368,49 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
         reference_ms = np.where(near, event_dip * dt_ms + seafloor_slope, reference_ms)  # stratal dip, not the event's
         on_event |= near & (distance_ms <= settings["pick_on_event_ms"])
 
-    depth_below_m = velocity.depth_below_seafloor_m(np.nan_to_num(pick_twt - seafloor_twt, nan=0.0))
+    depth_below_m = velocity.depth_below_seafloor_m(np.nan_to_num(below_ms, nan=0.0))
     interval_velocity = velocity.interval_velocity_m_s(depth_below_m)
     departure = pick_departure_deg(pick_twt, reference_ms, interval_velocity, section.trace_spacing_m, smooth)
     limit = float(settings["max_pick_angle_deg"])
     window_samples = max(1, int(round(settings["window_ms"] / dt_ms)) | 1)
     path_semblance = semblance_along_path(section.data, dt_ms, section.t0_ms, pick_twt, int(settings["window_traces"]),
                                           window_samples)
-    incoherent = ~(path_semblance >= settings["min_semblance"])  # a pick on one coherent reflection follows something
-    departs = (np.abs(np.nan_to_num(departure, nan=0.0)) > limit) & (on_event | incoherent)
+    coherent = path_semblance >= settings["min_semblance"]  # a pick on one coherent reflection follows something
+    pick_sign = np.sign(np.nan_to_num(amplitude_at(section, pick_twt), nan=0.0))
+
+    # The pick's own path: a constant time below the seafloor, on a coherent event of the reverse polarity of
+    # the seafloor (hydrate over free gas), is a boundary the pick may follow even where the panel-wide
+    # search found no event (strata nearly parallel to it there).
+    below_slope_ms = path_slope_ms_per_trace(below_ms, smooth)
+    parallel = np.abs(np.nan_to_num(dip_angle_deg(below_slope_ms, interval_velocity, section.trace_spacing_m),
+                                    nan=90.0)) <= limit
+    reversed_polarity = pick_sign * seafloor.polarity < 0
+    on_path_boundary = parallel & reversed_polarity & coherent & ~near_seafloor
+    guard_ms = float(settings["multiple_guard_ms"])
+    for order in (2.0, 3.0):  # the first and second seafloor multiples parallel the seafloor too
+        on_path_boundary &= ~(np.abs(pick_twt - order * seafloor_twt) <= guard_ms)
+    candidates = np.flatnonzero(on_path_boundary)
+    if candidates.size and search.stack is not None and search.stack_envelope is not None:
+        peg_leg = water_layer_peg_leg_flags(search.stack, search.stack_envelope, dt_ms, seafloor_twt, candidates,
+                                            below_ms[candidates], pick_sign[candidates],
+                                            float(settings["peg_leg_min_parent_ratio"]), guard_ms)
+        on_path_boundary[candidates[peg_leg]] = False  # a water-layer peg-leg of a stronger event above
+    on_boundary = on_event | on_path_boundary
+    strata_ms = stratal_dip_along_path(search, below_ms, dt_ms, np.flatnonzero(on_boundary),
+                                       int(settings["window_traces"]) // 2, float(settings["guard_ms"]),
+                                       float(settings["band_ms"]))
+    divergence_ms = below_slope_ms - strata_ms  # pick slope minus stratal dip, both relative to the seafloor
+
+    beyond = np.abs(np.nan_to_num(departure, nan=0.0)) > limit
+    departs = beyond & (on_boundary | ~coherent)
     min_run = int(settings["min_pick_run_traces"])
     runs = true_runs(departs, max_gap=2, min_length=min_run)
+    min_divergence_ms = float(settings["min_pick_divergence_ms"])
     spans: list[tuple[int, int, bool]] = []  # (first, last, follows the boundary)
-    beyond = np.abs(np.nan_to_num(departure, nan=0.0)) > limit
-    for first, last in true_runs(on_event, max_gap=2, min_length=min_run):
-        if np.mean(beyond[first:last + 1]) < 0.5:
-            continue  # the pick crosses the event with the strata
+    for first, last in true_runs(on_boundary, max_gap=2, min_length=min_run):
+        cut_ms = float(np.nansum(divergence_ms[first:last + 1]))  # how far the strata drift from the pick over the run
+        if np.mean(beyond[first:last + 1]) < 0.5 and abs(cut_ms) < min_divergence_ms:
+            continue  # the pick crosses the event with the strata, or the strata parallel it
         for run_first, run_last in runs:  # join the ramp onto the event and any departures along it
             if run_first <= last + 3 and run_last >= first - 3:
                 first, last = min(first, run_first), max(last, run_last)
@@ -372,31 +419,48 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
         if not any(run_first <= last and run_last >= first for first, last, _ in spans):
             spans.append((run_first, run_last, False))
     findings: list[Finding] = []
+    phase_limit = float(settings["pick_phase_share"])
+    medium_run = int(settings["medium_pick_run_traces"])
     for first, last, follows in sorted(spans):
         span = slice(first, last + 1)
         run_departure = np.abs(departure[span][np.isfinite(departure[span])])
         median_departure = float(np.median(run_departure)) if run_departure.size else 0.0
-        share_on_event = float(np.mean(on_event[span]))
+        share_on_boundary = float(np.mean(on_boundary[span]))
         confidence = min(1.0, median_departure / (3.0 * limit))
         first_number, last_number = int(section.trace_numbers[first]), int(section.trace_numbers[last])
         times = pick_twt[span][np.isfinite(pick_twt[span])]
+        signs = pick_sign[span][pick_sign[span] != 0]
+        phase_share = float(max(np.mean(signs > 0), np.mean(signs < 0))) if signs.size else 0.0
         evidence: dict[str, Any] = {
             "departure_deg_median": median_departure,
             "departure_deg_max": float(run_departure.max()) if run_departure.size else 0.0,
             "run_traces": last - first + 1,
-            "share_on_boundary": share_on_event,
+            "share_on_boundary": share_on_boundary,
             "semblance_along_pick": float(np.nanmedian(path_semblance[span])) if np.isfinite(path_semblance[span]).any() else 0.0,
+            "phase_share": phase_share,
             "max_departure_deg": limit,
         }
         if follows:
-            jump_index = first if first > picked[0] else min(last + 1, picked[-1])
+            if first > picked[0]:
+                jump_index = _kink_index(below_ms, first, last, int(settings["window_traces"]))
+                first = max(first, jump_index)  # before the bend the pick is still on its reflection
+                span = slice(first, last + 1)
+                first_number = int(section.trace_numbers[first])
+                times = pick_twt[span][np.isfinite(pick_twt[span])]
+                evidence["run_traces"] = last - first + 1
+            else:
+                jump_index = min(last + 1, picked[-1])
             evidence["jump_trace"] = int(section.trace_numbers[jump_index])
             evidence["jump_twt_ms"] = float(pick_twt[jump_index])
+            evidence["share_on_section_event"] = float(np.mean(on_event[span]))
+            evidence["share_reversed_polarity"] = float(np.mean(reversed_polarity[span]))
+            evidence["divergence_from_strata_ms"] = float(np.nansum(divergence_ms[span]))
+            evidence["twt_below_seafloor_ms_median"] = float(np.nanmedian(below_ms[span]))
             findings.append(Finding(
                 id=f"{FAMILY}.pick-follows-boundary",
                 detector=NAME,
                 severity="high",
-                confidence=float(np.clip(max(confidence, share_on_event), 0.0, 1.0)),
+                confidence=float(np.clip(max(confidence, share_on_boundary), 0.0, 1.0)),
                 title=(f"{horizon.name} leaves the strata at trace {evidence['jump_trace']} and follows a "
                        f"seafloor-parallel event over traces {first_number}-{last_number}"),
                 advice=_FOLLOWS_ADVICE,
@@ -406,17 +470,48 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
                 evidence=evidence,
             ))
         else:
+            # A pick that keeps one phase over the run follows a reflection: the dip it disagrees with is then
+            # most likely set by a stronger event crossing it (a multiple, a boundary), so it is only a note.
+            keeps_phase = phase_share >= phase_limit
+            severity = "low" if keeps_phase or last - first + 1 < medium_run else "medium"
+            evidence["keeps_phase"] = bool(keeps_phase)
             findings.append(Finding(
                 id="pick.crosses-reflections",
                 detector=NAME,
-                severity="medium",
-                confidence=float(np.clip(confidence, 0.0, 1.0)),
+                severity=severity,
+                confidence=float(np.clip(confidence * (1.0 - phase_share if keeps_phase else 1.0), 0.0, 1.0)),
                 title=(f"{horizon.name} cuts across the reflections by {median_departure:.1f} deg over traces "
                        f"{first_number}-{last_number}"),
-                advice=_CROSSES_ADVICE,
+                advice=_CROSSES_ADVICE_PHASE if keeps_phase else _CROSSES_ADVICE,
                 horizon=horizon.name,
                 traces=(first_number, last_number),
                 twt_ms=(float(times.min()), float(times.max())),
                 evidence=evidence,
             ))
     return findings
+
+
+def _kink_index(below_ms: np.ndarray, first: int, last: int, half_traces: int) -> int:
+    """Where a pick's time below the seafloor changes slope near the start of a run: two-phase linear
+    regression over a fixed window, the break that leaves the least squared misfit (common practice).
+
+    The run's first trace is where the pick came within reach of the boundary; the pick leaves its
+    reflection where its path bends onto the boundary's slope. The window reaches ``half_traces``
+    before that trace and ``2 * half_traces`` after it (never past the run).
+    """
+    window_first, window_last = max(first - half_traces, 0), min(first + 2 * half_traces, last)
+    positions = np.arange(below_ms.size)
+    best_index, best_misfit = first, np.inf
+    for index in range(window_first + 3, window_last - 2):
+        misfit = 0.0
+        for segment in (slice(window_first, index), slice(index, window_last + 1)):
+            x, y = positions[segment], below_ms[segment]
+            finite = np.isfinite(y)
+            if finite.sum() < 3:
+                misfit = np.inf
+                break
+            coefficients = np.polyfit(x[finite], y[finite], 1)
+            misfit += float(np.sum((y[finite] - np.polyval(coefficients, x[finite])) ** 2))
+        if misfit < best_misfit:
+            best_index, best_misfit = index, misfit
+    return best_index

@@ -31,6 +31,10 @@ References
 .. [3] Berndt, C., Buenz, S., Clayton, T., Mienert, J., and Saunders, M., 2004, Seismic
        character of bottom simulating reflectors: examples from the mid-Norwegian margin,
        Marine and Petroleum Geology 21, 723-733. (reversed polarity, cuts strata)
+.. [4] Canny, J., 1986, A computational approach to edge detection, IEEE Transactions on
+       Pattern Analysis and Machine Intelligence 8(6), 679-698. (hysteresis; from memory)
+.. [5] Backus, M. M., 1959, Water reverberations - their nature and elimination, Geophysics
+       24(2), 233-261. (peg-leg at t_r + t_sf with amplitude -2 R A)
 """
 from __future__ import annotations
 
@@ -233,6 +237,17 @@ class SeafloorParallelEvent:
     above and below), shape (n,)."""
     stratal_rms_dip_samples_per_trace: np.ndarray
     """RMS dip of the strata relative to the seafloor, shape (n,)."""
+    cuts_strata: np.ndarray | None = None
+    """Traces (shape (n,), bool) where the event passed every test, the angle to the strata and
+    the coherence gain included; elsewhere it was only followed along the seafloor (hysteresis).
+    None means all of them."""
+
+    @property
+    def cutting(self) -> np.ndarray:
+        """Boolean mask of the traces where the event was seen to cut the strata."""
+        if self.cuts_strata is None:
+            return np.ones(self.trace_index.size, dtype=bool)
+        return np.asarray(self.cuts_strata, dtype=bool)
 
     @property
     def extent_traces(self) -> int:
@@ -250,6 +265,14 @@ class EventSearch:
     """Seafloor-parallel semblance on the mapped panel, (n_traces, n_below)."""
     stratal_dip_samples_per_trace: np.ndarray
     """Banded mean stratal dip relative to the seafloor, (n_traces, n_below)."""
+    stack: np.ndarray | None = None
+    """Seafloor-parallel stack (lateral mean of the mapped panel), (n_traces, n_below)."""
+    stack_envelope: np.ndarray | None = None
+    """Envelope of the seafloor-parallel stack, (n_traces, n_below)."""
+    dip_samples_per_trace: np.ndarray | None = None
+    """Structure-tensor dip of the mapped panel, clipped to the stratal limit, (n_traces, n_below)."""
+    dip_weight: np.ndarray | None = None
+    """Weight of each dip sample (coherence; 0 where the dip was too steep to be strata), (n_traces, n_below)."""
 
 
 def find_seafloor_parallel_events(
@@ -274,6 +297,7 @@ def find_seafloor_parallel_events(
     max_dip_samples_per_trace: float,
     exclude_twt_below_seafloor_ms: np.ndarray | None = None,
     exclude_half_width_ms: float = 0.0,
+    extend_min_semblance: float | None = None,
 ) -> EventSearch:
     """Seafloor-parallel events by semblance along constant time below the seafloor (Neidell & Taner 1971).
 
@@ -315,6 +339,11 @@ def find_seafloor_parallel_events(
         Times below the seafloor where events are not looked for (e.g. predicted multiples), per trace.
     exclude_half_width_ms : float
         Half width of those exclusion windows.
+    extend_min_semblance : float, optional
+        Hysteresis (Canny 1986): an event found with every test is followed along the
+        seafloor through points that pass only the coherence, amplitude and exclusion tests
+        with at least this semblance, so it also covers stretches where the strata happen to
+        parallel it. None follows nothing.
 
     Returns
     -------
@@ -331,13 +360,13 @@ def find_seafloor_parallel_events(
 
     rows = np.arange(n_below) * dt_ms
     in_window = (rows >= search_from_ms) & (rows <= search_to_ms)
-    candidate = (valid[:, None] & (valid_fraction[:, None] >= 0.8) & in_window[None, :]
-                 & (semblance >= min_semblance) & local_max
-                 & (envelope >= min_relative_amplitude * abs(reference_amplitude)))
+    followable = (valid[:, None] & (valid_fraction[:, None] >= 0.8) & in_window[None, :] & local_max
+                  & (envelope >= min_relative_amplitude * abs(reference_amplitude)))
     if exclude_twt_below_seafloor_ms is not None and exclude_half_width_ms > 0:
         for column in np.atleast_2d(np.asarray(exclude_twt_below_seafloor_ms, dtype=float).T):
             near = np.abs(rows[None, :] - column[:, None]) <= exclude_half_width_ms
-            candidate &= ~np.where(np.isfinite(column)[:, None], near, False)
+            followable &= ~np.where(np.isfinite(column)[:, None], near, False)
+    candidate = followable & (semblance >= min_semblance)
 
     field = structure_tensor_dip(flattened)
     weight = field.coherence * valid[:, None]
@@ -353,35 +382,43 @@ def find_seafloor_parallel_events(
                                              mean_dip[trace_points, sample_points], window_traces, window_samples)
         gain = semblance[trace_points, sample_points] - along_strata  # more coherent along the seafloor than the strata
         candidate[trace_points[gain < min_semblance_gain], sample_points[gain < min_semblance_gain]] = False
+    extendable = candidate.copy()
+    if extend_min_semblance is not None:
+        extendable |= followable & (semblance >= extend_min_semblance)
 
     events: list[SeafloorParallelEvent] = []
     if candidate.any():
         bridge = np.ones((2 * max_gap_traces + 1, 3), dtype=bool)
-        labels, count = label(binary_dilation(candidate, structure=bridge), structure=np.ones((3, 3), dtype=bool))
+        labels, count = label(binary_dilation(extendable, structure=bridge), structure=np.ones((3, 3), dtype=bool))
         for number in range(1, count + 1):
-            points = candidate & (labels == number)
+            seeds = candidate & (labels == number)
+            seed_traces = np.flatnonzero(seeds.any(axis=1))
+            if seed_traces.size == 0 or seed_traces[-1] - seed_traces[0] + 1 < min_extent_traces:
+                continue  # the event must cut the strata over a long enough stretch of its own
+            points = extendable & (labels == number)
             traces = np.flatnonzero(points.any(axis=1))
-            if traces.size == 0 or traces[-1] - traces[0] + 1 < min_extent_traces:
-                continue
             strength = np.where(points[traces], envelope[traces], -1.0)
             samples = np.argmax(strength, axis=1)
             events.append(_measure_event(flattened, semblance, stratal_dip, weight, rms_dip, traces, samples,
-                                         dt_ms, window_traces, window_samples, guard_samples, band_samples))
+                                         dt_ms, window_traces, window_samples, guard_samples, band_samples,
+                                         seeds[traces, samples]))
     events.sort(key=lambda event: (float(np.median(event.twt_below_seafloor_ms)), int(event.trace_index[0])))
     return EventSearch(events=tuple(events), flattened=flattened, semblance=semblance,
-                       stratal_dip_samples_per_trace=mean_dip)
+                       stratal_dip_samples_per_trace=mean_dip, stack=lateral_mean, stack_envelope=envelope,
+                       dip_samples_per_trace=stratal_dip, dip_weight=weight)
 
 
 def _measure_event(flattened: np.ndarray, semblance: np.ndarray, stratal_dip: np.ndarray, weight: np.ndarray,
                    rms_dip: np.ndarray, traces: np.ndarray, samples: np.ndarray, dt_ms: float, window_traces: int,
-                   window_samples: int, guard_samples: int, band_samples: int) -> SeafloorParallelEvent:
+                   window_samples: int, guard_samples: int, band_samples: int,
+                   cuts_strata: np.ndarray) -> SeafloorParallelEvent:
     """Per-trace time, signed amplitude, stratal dip and coherences of one event."""
     snap = np.clip(samples[:, None] + np.arange(-2, 3)[None, :], 0, flattened.shape[1] - 1)
     lobe = flattened[traces[:, None], snap]
     strongest = np.argmax(np.abs(lobe), axis=1)
     amplitude = lobe[np.arange(traces.size), strongest]
-    strata_dip = np.array([_band_median_dip(stratal_dip, weight, int(trace), int(sample), window_traces // 2,
-                                            guard_samples, band_samples)
+    strata_dip = np.array([band_median_dip(stratal_dip, weight, int(trace), int(sample), window_traces // 2,
+                                           guard_samples, band_samples)
                            for trace, sample in zip(traces, samples)])
     along_strata = dip_steered_semblance(flattened, traces, samples, strata_dip, window_traces, window_samples)
     return SeafloorParallelEvent(
@@ -392,13 +429,33 @@ def _measure_event(flattened: np.ndarray, semblance: np.ndarray, stratal_dip: np
         semblance_along_strata=along_strata,
         stratal_dip_samples_per_trace=strata_dip,
         stratal_rms_dip_samples_per_trace=rms_dip[traces, samples],
+        cuts_strata=np.asarray(cuts_strata, dtype=bool),
     )
 
 
-def _band_median_dip(dip: np.ndarray, weight: np.ndarray, trace: int, sample: int, half_traces: int,
-                     guard_samples: int, band_samples: int) -> float:
-    """Weighted median of the dip in the bands above and below one point: other seafloor-parallel
-    reflections in the band (a free-gas base, the seafloor) are a minority and do not pull it."""
+def band_median_dip(dip: np.ndarray, weight: np.ndarray, trace: int, sample: int, half_traces: int,
+                    guard_samples: int, band_samples: int) -> float:
+    """Weighted median of the structure-tensor dip in the bands above and below one point.
+
+    Other seafloor-parallel reflections in the band (a free-gas base, the seafloor) are a
+    minority and do not pull it, as they would pull a mean.
+
+    Parameters
+    ----------
+    dip, weight : ndarray of shape (n_traces, n_samples)
+        Dip (samples per trace) and its weight.
+    trace, sample : int
+        The point.
+    half_traces : int
+        Traces either side that the bands span.
+    guard_samples, band_samples : int
+        The bands reach from ``guard_samples`` to ``band_samples`` above and below the point.
+
+    Returns
+    -------
+    float
+        Weighted median dip, samples per trace; 0 where the bands carry no weight.
+    """
     low, high = max(0, trace - half_traces), min(dip.shape[0], trace + half_traces + 1)
     above = slice(max(0, sample - band_samples), max(0, sample - guard_samples + 1))
     below = slice(min(dip.shape[1], sample + guard_samples), min(dip.shape[1], sample + band_samples + 1))
@@ -409,6 +466,66 @@ def _band_median_dip(dip: np.ndarray, weight: np.ndarray, trace: int, sample: in
     order = np.argsort(values)
     cumulative = np.cumsum(weights[order])
     return float(values[order][np.searchsorted(cumulative, 0.5 * cumulative[-1])])
+
+
+def water_layer_peg_leg_flags(stack: np.ndarray, stack_envelope: np.ndarray, dt_ms: float,
+                              seafloor_twt_ms: np.ndarray, trace_index: np.ndarray, twt_below_seafloor_ms: np.ndarray,
+                              amplitude: np.ndarray, min_parent_ratio: float, half_width_ms: float) -> np.ndarray:
+    """Per point, whether it could be the water-layer peg-leg of a shallower event (Backus 1959).
+
+    A peg-leg of a reflector at time ``t_r`` below the seafloor arrives one seafloor time later,
+    ``t_r + t_sf``, with amplitude ``-2 R_sf A`` (REFERENCES item 1): the opposite sign of its
+    parent in the data (``R_sf > 0``) and, for ``R_sf`` up to 0.5, no stronger. With the seafloor
+    itself as the parent (``t_r = 0``) this is the first seafloor multiple at ``2 t_sf``.
+
+    Parameters
+    ----------
+    stack, stack_envelope : ndarray of shape (n_traces, n_below)
+        Seafloor-parallel stack of the panel mapped to time below the seafloor, and its envelope.
+    dt_ms : float
+        Sample interval of the mapped panel.
+    seafloor_twt_ms : ndarray of shape (n_traces,)
+        Seafloor time per trace.
+    trace_index : ndarray of int, shape (n,)
+        Traces of the points.
+    twt_below_seafloor_ms, amplitude : ndarray of shape (n,)
+        Time below the seafloor and signed amplitude of each point.
+    min_parent_ratio : float
+        The parent's envelope must be at least this times the point's.
+    half_width_ms : float
+        The parent is looked for within this of ``t - t_sf``.
+
+    Returns
+    -------
+    ndarray of shape (n,), bool
+    """
+    traces = np.asarray(trace_index, dtype=int)
+    below = np.asarray(twt_below_seafloor_ms, dtype=float)
+    parent_ms = below - np.asarray(seafloor_twt_ms, dtype=float)[traces]  # t_r = t - t_sf
+    half = max(1, int(round(half_width_ms / dt_ms)))
+    n_below = stack.shape[1]
+    found = np.zeros(traces.size, dtype=bool)
+    for position, trace in enumerate(traces):
+        if not (np.isfinite(parent_ms[position]) and np.isfinite(below[position])):
+            continue
+        middle, own = int(round(parent_ms[position] / dt_ms)), int(round(below[position] / dt_ms))
+        low, high = max(0, middle - half), min(n_below, middle + half + 1)
+        if high <= low or not 0 <= own < n_below:
+            continue
+        strongest = low + int(np.argmax(np.abs(stack[trace, low:high])))  # the parent's main lobe
+        opposite = np.sign(stack[trace, strongest]) == -np.sign(amplitude[position])
+        stronger = stack_envelope[trace, strongest] >= min_parent_ratio * stack_envelope[trace, own]
+        found[position] = bool(opposite and stronger)
+    return found
+
+
+def water_layer_peg_leg_share(stack: np.ndarray, stack_envelope: np.ndarray, dt_ms: float,
+                              seafloor_twt_ms: np.ndarray, event: SeafloorParallelEvent, min_parent_ratio: float,
+                              half_width_ms: float) -> float:
+    """Share (0-1) of an event's traces where it could be a water-layer peg-leg (``water_layer_peg_leg_flags``)."""
+    flags = water_layer_peg_leg_flags(stack, stack_envelope, dt_ms, seafloor_twt_ms, event.trace_index,
+                                      event.twt_below_seafloor_ms, event.amplitude, min_parent_ratio, half_width_ms)
+    return float(np.mean(flags)) if flags.size else 0.0
 
 
 # --- hydrate stability in time below the seafloor ----------------------------------------------
@@ -510,6 +627,80 @@ def semblance_along_path(data: np.ndarray, dt_ms: float, t0_ms: float, path_twt_
     return np.where(picked, semblance[:, window_samples // 2], np.nan)
 
 
+def path_slope_ms_per_trace(path_twt_ms: np.ndarray, smooth_traces: int) -> np.ndarray:
+    """Slope of a picked path, ms per trace: centred difference (one-sided at ends and gaps), averaged
+    over ``smooth_traces`` traces (common practice).
+
+    Parameters
+    ----------
+    path_twt_ms : ndarray of shape (n_traces,)
+        Time per trace; NaN gaps.
+    smooth_traces : int
+        Width of the running mean.
+
+    Returns
+    -------
+    ndarray of shape (n_traces,)
+        Slope; NaN where the path is missing on both sides.
+    """
+    twt = np.asarray(path_twt_ms, dtype=float)
+    steps = np.vstack((np.concatenate(([np.nan], np.diff(twt))), np.concatenate((np.diff(twt), [np.nan]))))
+    count = np.isfinite(steps).sum(axis=0)
+    slope = np.where(count > 0, np.nansum(steps, axis=0) / np.maximum(count, 1), np.nan)  # centred difference, ms/trace
+    if smooth_traces > 1:
+        finite = np.isfinite(slope)
+        total = uniform_filter1d(np.where(finite, slope, 0.0), smooth_traces, mode="constant")
+        share = uniform_filter1d(finite.astype(float), smooth_traces, mode="constant")
+        slope = np.where(finite & (share > 0), total / np.maximum(share, _TINY), np.nan)
+    return slope
+
+
+def stratal_dip_along_path(search: EventSearch, path_twt_below_seafloor_ms: np.ndarray, dt_ms: float,
+                           trace_index: np.ndarray, half_traces: int, guard_ms: float, band_ms: float) -> np.ndarray:
+    """Stratal dip relative to the seafloor around a picked path, from the search's mapped panel.
+
+    The weighted median of the structure-tensor dip in bands between ``guard_ms`` and
+    ``band_ms`` above and below the path (``band_median_dip``): the path's own reflection is
+    left out, so the dip is that of the strata it runs through.
+
+    Parameters
+    ----------
+    search : EventSearch
+        A search that kept its dip field (``dip_samples_per_trace`` and ``dip_weight``).
+    path_twt_below_seafloor_ms : ndarray of shape (n_traces,)
+        Path time below the seafloor; NaN gaps.
+    dt_ms : float
+        Sample interval.
+    trace_index : ndarray of int
+        Traces at which to measure.
+    half_traces : int
+        Traces either side that the bands span.
+    guard_ms, band_ms : float
+        Reach of the bands.
+
+    Returns
+    -------
+    ndarray of shape (n_traces,)
+        Dip in ms per trace relative to the seafloor at ``trace_index``; NaN elsewhere and where
+        the path lies outside the mapped panel.
+    """
+    below = np.asarray(path_twt_below_seafloor_ms, dtype=float)
+    dip_ms = np.full(below.shape, np.nan)
+    if search.dip_samples_per_trace is None or search.dip_weight is None:
+        return dip_ms
+    guard_samples = max(1, int(round(guard_ms / dt_ms)))
+    band_samples = max(guard_samples + 1, int(round(band_ms / dt_ms)))
+    n_below = search.dip_samples_per_trace.shape[1]
+    for trace in np.asarray(trace_index, dtype=int):
+        if not np.isfinite(below[trace]):
+            continue
+        sample = int(round(below[trace] / dt_ms))
+        if 0 <= sample < n_below:
+            dip_ms[trace] = dt_ms * band_median_dip(search.dip_samples_per_trace, search.dip_weight, int(trace),
+                                                    sample, half_traces, guard_samples, band_samples)
+    return dip_ms
+
+
 def pick_departure_deg(pick_twt_ms: np.ndarray, reference_dip_ms_per_trace: np.ndarray,
                        velocity_m_s: np.ndarray | float, trace_spacing_m: float, smooth_traces: int) -> np.ndarray:
     """Angle between a pick's local slope and the reflection dip along it, degrees.
@@ -532,15 +723,7 @@ def pick_departure_deg(pick_twt_ms: np.ndarray, reference_dip_ms_per_trace: np.n
     ndarray of shape (n_traces,)
         Pick angle minus reflection angle (signed), NaN where either is unknown.
     """
-    twt = np.asarray(pick_twt_ms, dtype=float)
-    steps = np.vstack((np.concatenate(([np.nan], np.diff(twt))), np.concatenate((np.diff(twt), [np.nan]))))
-    count = np.isfinite(steps).sum(axis=0)
-    slope = np.where(count > 0, np.nansum(steps, axis=0) / np.maximum(count, 1), np.nan)  # centred difference, ms/trace
-    if smooth_traces > 1:
-        finite = np.isfinite(slope)
-        total = uniform_filter1d(np.where(finite, slope, 0.0), smooth_traces, mode="constant")
-        share = uniform_filter1d(finite.astype(float), smooth_traces, mode="constant")
-        slope = np.where(finite & (share > 0), total / np.maximum(share, _TINY), np.nan)
+    slope = path_slope_ms_per_trace(pick_twt_ms, smooth_traces)
     pick_angle = dip_angle_deg(slope, velocity_m_s, trace_spacing_m)
     reflection_angle = dip_angle_deg(reference_dip_ms_per_trace, velocity_m_s, trace_spacing_m)
     return pick_angle - reflection_angle
