@@ -15,10 +15,17 @@ seafloor-parallel stack with semblance of at least ``min_semblance`` and at leas
 ``guard_ms`` and ``band_ms`` above and below, structure-tensor dip weighted by its coherence,
 dips steeper than ``max_stratal_dip_ms_per_trace`` left out as noise) that dip by at least
 ``min_angle_to_strata_deg`` relative to the seafloor. Where the strata themselves parallel the
-seafloor nothing cuts across them and nothing is reported. Events within ``multiple_guard_ms``
-of the first or second seafloor multiple, and events that repeat a shallower event one
-seafloor time later (its water-layer peg-leg), are left out: they are seafloor-parallel for a
-different reason, and the multiples detector looks at them. The event's polarity relative to
+seafloor nothing cuts across them and nothing is reported. An event proven this way is then
+followed along the seafloor (hysteresis) through points with a seafloor-parallel semblance of at
+least ``extend_min_semblance`` and the amplitude above, so that it also covers stretches where the
+strata happen to parallel it or a canyon bends it; angle and coherence gain in the finding are
+measured where it was seen to cut. Events within ``multiple_guard_ms`` of the first or second
+seafloor multiple, and water-layer peg-legs, are left out: they are seafloor-parallel for a
+different reason, and the multiples detector looks at them. A peg-leg repeats an event one
+seafloor time later with amplitude ``-2 R_sf A``; an event is one when it lies one seafloor time
+below a reported event, or when on most of its traces the seafloor-parallel stack one seafloor
+time higher holds an event of the opposite sign at least ``peg_leg_min_parent_ratio`` times as
+strong (the seafloor itself as that parent is the first seafloor multiple). The event's polarity relative to
 the seafloor (per trace, then the majority) gives the class: reversed is
 ``crosscut.hydrate-like`` (hydrate over free gas lowers the impedance downward), the same as
 the seafloor is ``crosscut.diagenetic-like`` (the opal-A to opal-CT change raises density
@@ -44,16 +51,30 @@ Picks. For each picked horizon (kind ``horizon``) the pick slope, averaged over
 structure-tensor dip of the section (trusted where its linearity is at least
 ``min_dip_linearity``), or, within ``band_ms`` of a seafloor-parallel event, the stratal dip
 measured around the event, because there the event (and, under a hydrate boundary, the
-free-gas base below it) would set the local dip. Runs of at least ``min_pick_run_traces``
-traces where the two differ by more than ``max_pick_angle_deg`` become:
-``crosscut.pick-follows-boundary`` (high) when most of the run lies within ``pick_on_event_ms``
-of the event, with the trace where the pick leaves the strata (``jump_trace``); otherwise
-``pick.crosses-reflections``, counted only where the data aligned on the pick have a semblance
-below ``min_semblance`` (a pick that follows one coherent reflection is following something).
-The id ``pick.crosses-reflections`` belongs to the ``pick`` family but is made here, because it
-comes from the same dip comparison. Confidence of a pick run:
-``min(1, median |departure| / (3 * max_pick_angle_deg))``, raised to at least the run's share on
-the event for ``crosscut.pick-follows-boundary``.
+free-gas base below it) would set the local dip. A pick lies on a boundary where it is within ``pick_on_event_ms`` of a
+reported event, or where its own path shows one: its time below the seafloor constant (angle to
+the seafloor within ``max_pick_angle_deg`` over ``pick_slope_traces``), the data at the pick of the
+reverse polarity of the seafloor, the data aligned on the pick coherent (semblance at least
+``min_semblance``), and not on a seafloor multiple or a water-layer peg-leg. This covers stretches
+where the strata run too nearly parallel to the boundary for the section-wide search.
+A run of at least ``min_pick_run_traces`` traces on a boundary is
+``crosscut.pick-follows-boundary`` (high) when the pick departs from the strata by more than
+``max_pick_angle_deg`` on most of it, or when the strata around the pick (weighted median dip
+between ``guard_ms`` and ``band_ms`` above and below) drift from it by at least
+``min_pick_divergence_ms`` over the run: a small angle kept over a long run still takes the pick
+onto other cycles. The trace where the pick leaves the strata (``jump_trace``) is the bend in its
+time below the seafloor (two-phase linear regression near the run's start).
+Other runs where the pick departs by more than ``max_pick_angle_deg`` and the data aligned on it
+are incoherent are ``pick.crosses-reflections``: medium when the run is at least
+``medium_pick_run_traces`` long and the pick does not keep one phase (fewer than
+``pick_phase_share`` of its traces share the majority sign; a pick cutting reflections samples
+peaks and troughs alike), otherwise low: a pick that keeps its phase follows its reflection,
+and the dip it disagrees with is then most likely set by a stronger crossing event such as a
+multiple. The id ``pick.crosses-reflections`` belongs to the ``pick`` family but is made here,
+because it comes from the same dip comparison. Confidence of a pick run:
+``min(1, median |departure| / (3 * max_pick_angle_deg))``, scaled by ``1 - phase share`` when the
+pick keeps its phase, and raised to at least the run's share on the boundary for
+``crosscut.pick-follows-boundary``.
 
 References
 ----------
@@ -67,6 +88,10 @@ References
        simulating reflector in the southern Bering Sea, Sedimentology 25. (authors from memory)
 .. [4] Neidell, N. S., and Taner, M. T., 1971, Semblance and other coherency measures for
        multichannel data, Geophysics 36(3), 482-497. (from memory)
+.. [5] Backus, M. M., 1959, Water reverberations - their nature and elimination, Geophysics
+       24(2), 233-261. (peg-leg times and amplitudes)
+.. [6] Canny, J., 1986, A computational approach to edge detection, IEEE Transactions on
+       Pattern Analysis and Machine Intelligence 8(6), 679-698. (hysteresis; from memory)
 """
 from __future__ import annotations
 

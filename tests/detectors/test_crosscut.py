@@ -8,6 +8,7 @@ for 4 C and 40 C/km, or a diagenetic front 300 m below the seafloor.
 from __future__ import annotations
 
 import dataclasses
+import json
 import pathlib
 
 import numpy as np
@@ -16,16 +17,18 @@ import yaml
 
 from pitfalls.detectors import crosscut
 from pitfalls.model import Horizon, Picks, Section
+from pitfalls.modelling.demo import build_demo_model
 from pitfalls.modelling.earth import EarthModel, Overprint, Unit
 from pitfalls.modelling.section import ModelledSection, model_section
 from pitfalls.modelling.shapes import dipping
-from pitfalls.physics.crosscut import predicted_stability_base_twt_ms
+from pitfalls.physics.crosscut import predicted_stability_base_twt_ms, water_layer_peg_leg_share
 from pitfalls.physics.hydrate import stability_base_depth_m
 from pitfalls.physics.seafloor import find_seafloor
 from pitfalls.physics.velocity import VelocityModel
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 REAL_LINE = ROOT.parent / "shared" / "data" / "real" / "penobscot_xl1155.sgy"
+DEMO_TRUTH = ROOT / "demo_data" / "QT24-117_truth.json"
 N_TRACES = 240
 DT_MS = 4.0
 EVENT_IDS = {"crosscut.hydrate-like", "crosscut.diagenetic-like"}
@@ -237,6 +240,130 @@ def test_global_polarity_changes_no_class(rules, overprint, flip):
     reversed_ = crosscut.detect(flipped, picks, rules)
     assert original, "the case must give findings for the property to mean anything"
     assert [(f.id, f.traces) for f in reversed_] == [(f.id, f.traces) for f in original]
+
+
+# --- multiples and peg-legs are not boundaries -------------------------------------------------
+def shallow_water_hydrate_model() -> ModelledSection:
+    """650 m of water: the hydrate base (about 150 m below the seafloor at 4 C and 40 C/km), its
+    water-layer peg-leg (t_hb + t_sf) and the first seafloor multiple (2 t_sf) all lie inside the
+    searched window, among thirty beds rising 0.8 m/trace."""
+    key = ("shallow hydrate",)
+    if key not in _MODELS:
+        seafloor_m = dipping(N_TRACES, 650.0, 0.6)
+        units = tuple(Unit(f"bed{number}", dipping(N_TRACES, 700.0 + 45.0 * number, -0.8),
+                           1750.0 + (60.0 if number % 2 else -40.0) + 8.0 * number) for number in range(30))
+        base_m = seafloor_m + np.array([stability_base_depth_m(depth, 4.0, 40.0) for depth in seafloor_m])
+        overprint = Overprint("hydrate base", "hydrate", base_m, 150.0, thickness_m=40.0, gas_velocity_drop_m_s=350.0)
+        _MODELS[key] = model_section(EarthModel(1500.0, seafloor_m, units, (overprint,)), dt_ms=DT_MS, n_samples=800,
+                                     snr=4.0, seed=11, name="shallow hydrate model")
+    return _MODELS[key]
+
+
+def test_seafloor_multiple_and_peg_leg_are_not_boundaries(rules):
+    """Only the hydrate base is reported: nothing on the first seafloor multiple (2 t_sf) or on the
+    base's water-layer peg-leg (t_hb + t_sf), both seafloor-parallel for a reason other than
+    temperature (REFERENCES item 1). The peg-leg, measured in the seafloor-parallel stack, has a parent
+    of the opposite sign and more strength one seafloor time above on most traces; the base has none."""
+    model = shallow_water_hydrate_model()
+    findings = crosscut.detect(model.section, Picks(), rules)
+    assert ids(findings) == ["crosscut.hydrate-like"]
+    true_below_ms = model.surface_twt_ms["hydrate base"] - model.seafloor_twt_ms
+    assert findings[0].evidence["twt_below_seafloor_ms_median"] == pytest.approx(np.median(true_below_ms),
+                                                                                 abs=2 * DT_MS)
+    seafloor = find_seafloor(model.section, Picks(), rules)
+    search = crosscut._search_events(model.section, seafloor, VelocityModel.from_rules(rules), rules["crosscut"])
+    (event,) = search.events
+    peg_leg_below_ms = event.twt_below_seafloor_ms + seafloor.twt_ms[event.trace_index]  # t_hb + t_sf below the seafloor
+    peg_leg_sample = np.round(peg_leg_below_ms / DT_MS).astype(int)
+    peg_leg = dataclasses.replace(event, twt_below_seafloor_ms=peg_leg_below_ms,
+                                  amplitude=search.stack[event.trace_index, peg_leg_sample])
+    assert np.mean(np.sign(peg_leg.amplitude) == -np.sign(event.amplitude)) >= 0.9  # -2 R_sf A: reversed
+    args = (search.stack, search.stack_envelope, DT_MS, seafloor.twt_ms)
+    assert water_layer_peg_leg_share(*args, peg_leg, 1.0, rules["crosscut"]["multiple_guard_ms"]) >= 0.5
+    assert water_layer_peg_leg_share(*args, event, 1.0, rules["crosscut"]["multiple_guard_ms"]) <= 0.1
+
+
+# --- the bundled demo line ---------------------------------------------------------------------
+@pytest.fixture(scope="module")
+def demo():
+    """The demo line, its picks, its truth file and the detector's findings with the default rules."""
+    modelled, picks = build_demo_model()
+    truth = json.loads(DEMO_TRUTH.read_text(encoding="utf-8"))
+    return modelled, picks, truth, crosscut.detect(modelled.section, picks, default_rules())
+
+
+def test_demo_pick_on_the_hydrate_base_is_high(demo):
+    """The horizon the truth file says follows the hydrate base gets crosscut.pick-follows-boundary (high)
+    with the jump trace within 10 traces of the truth's, over at least 90 % of the truth's traces, and
+    on the reverse polarity of the seafloor."""
+    modelled, picks, truth, findings = demo
+    (expected,) = [item for item in truth["expected"] if item["id"] == "crosscut.pick-follows-boundary"]
+    found = [finding for finding in findings if finding.horizon == expected["horizon"]
+             and finding.id == expected["id"]]
+    assert len(found) == 1 and found[0].severity == "high"
+    assert abs(found[0].evidence["jump_trace"] - expected["jump_trace"]) <= 10
+    first, last = expected["traces"]
+    overlap = min(last, found[0].traces[1]) - max(first, found[0].traces[0]) + 1
+    assert overlap >= 0.9 * (last - first + 1)
+    assert found[0].evidence["share_reversed_polarity"] >= 0.9
+
+
+def test_demo_correct_horizons_get_notes_only(demo):
+    """Horizons the truth file lists as correct get nothing above low from this detector."""
+    _, _, truth, findings = demo
+    correct = {item["horizon"] for item in truth["correct_picks"] if item["kind"] == "horizon"}
+    assert correct
+    assert [(f.horizon, f.id, f.traces) for f in findings if f.horizon in correct and f.severity != "low"] == []
+
+
+def test_demo_hydrate_event_is_reversed_and_spans_the_line(demo):
+    """The hydrate base is reported as hydrate-like with reversed polarity, matching the predicted
+    stability base, within the truth's time range (+/- 2 samples), over the boundary pick's traces and
+    at least 90 % of the line."""
+    modelled, _, truth, findings = demo
+    hydrate = [finding for finding in findings if finding.id == "crosscut.hydrate-like"]
+    assert len(hydrate) == 1
+    (event,) = hydrate
+    assert event.evidence["polarity_vs_seafloor"] == -1
+    assert event.evidence["matches_stability_base"] is True
+    low_ms, high_ms = truth["other_events"]["hydrate_base_twt_ms"]
+    assert low_ms - 2 * DT_MS <= event.twt_ms[0] and event.twt_ms[1] <= high_ms + 2 * DT_MS
+    (expected,) = [item for item in truth["expected"] if item["id"] == "crosscut.pick-follows-boundary"]
+    assert event.traces[0] <= expected["traces"][0] and event.traces[1] >= expected["traces"][1] - 10
+    assert event.traces[1] - event.traces[0] + 1 >= 0.9 * truth["section"]["n_traces"]
+
+
+def test_demo_nothing_on_the_seafloor_multiple_or_peg_legs(demo):
+    """No reported event lies within the multiple guard of the first seafloor multiple (2 t_sf) or of
+    the hydrate base's water-layer peg-leg (t_hb + t_sf, REFERENCES item 1) on half its traces or
+    more, and no pick finding above low does; the opal-CT front stays reported as diagenetic-like
+    within the truth's time range."""
+    modelled, picks, truth, findings = demo
+    rules = default_rules()
+    guard_ms = rules["crosscut"]["multiple_guard_ms"]
+    seafloor_ms = modelled.seafloor_twt_ms
+    multiple_ms = 2.0 * seafloor_ms
+    low_ms, high_ms = truth["other_events"]["first_seafloor_multiple_twt_ms"]
+    assert multiple_ms.min() == pytest.approx(low_ms, abs=0.1) and multiple_ms.max() == pytest.approx(high_ms, abs=0.1)
+    peg_leg_ms = modelled.surface_twt_ms["hydrate base"] + seafloor_ms
+    seafloor = find_seafloor(modelled.section, picks, rules)
+    search = crosscut._search_events(modelled.section, seafloor, VelocityModel.from_rules(rules), rules["crosscut"])
+    assert search.events
+    for event in search.events:
+        event_ms = seafloor.twt_ms[event.trace_index] + event.twt_below_seafloor_ms
+        for predicted in (multiple_ms, peg_leg_ms):
+            assert np.mean(np.abs(event_ms - predicted[event.trace_index]) <= guard_ms) < 0.5
+    for finding in findings:
+        if finding.horizon is None or finding.severity == "low":
+            continue
+        span = slice(finding.traces[0] - 1, finding.traces[1])
+        pick_ms = picks.by_name(finding.horizon).twt_ms[span]
+        assert np.mean(np.abs(pick_ms - multiple_ms[span]) <= guard_ms) < 0.5, finding.title
+    opal = [finding for finding in findings if finding.id == "crosscut.diagenetic-like"]
+    assert opal
+    low_ms, high_ms = truth["other_events"]["opal_front_twt_ms"]
+    for finding in opal:
+        assert low_ms - 2 * DT_MS <= finding.twt_ms[0] and finding.twt_ms[1] <= high_ms + 2 * DT_MS
 
 
 # --- real line -----------------------------------------------------------------------------

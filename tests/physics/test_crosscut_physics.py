@@ -15,11 +15,13 @@ from pitfalls.physics.crosscut import (
     find_seafloor_parallel_events,
     flatten_on_seafloor,
     gradient_for_event_c_per_km,
+    path_slope_ms_per_trace,
     pick_departure_deg,
     predicted_stability_base_twt_ms,
     seafloor_parallel_semblance,
     stability_tolerance_ms,
     temperature_at_c,
+    water_layer_peg_leg_flags,
 )
 from pitfalls.physics.velocity import VelocityModel
 
@@ -199,10 +201,12 @@ def ricker(frequency_hz: float, dt_ms: float, half_length_ms: float = 64.0) -> n
 
 
 def synthetic_line(*, event_below_ms: float | None = 300.0, event_reflection: float = -0.15,
-                   strata_parallel: bool = False, n_traces: int = 200, seed: int = 0) -> tuple[np.ndarray, np.ndarray]:
+                   strata_parallel: bool = False, n_traces: int = 200, seed: int = 0,
+                   parallel_from_trace: int | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Seafloor (R = 0.3) dipping 0.5 ms/trace from 1000 ms; beds every 36 ms with R of +/-0.03-0.08
-    dipping -1 ms/trace (or parallel to the seafloor); optional event at a constant time below the
-    seafloor. Reflectivity on a 0.5 ms grid, 25 Hz Ricker, resampled to 4 ms."""
+    dipping -1 ms/trace (or parallel to the seafloor, everywhere or from ``parallel_from_trace`` on);
+    optional event at a constant time below the seafloor. Reflectivity on a 0.5 ms grid, 25 Hz Ricker,
+    resampled to 4 ms."""
     rng = np.random.default_rng(seed)
     fine_ms, n_samples = 0.5, 500
     n_fine = int(n_samples * DT_MS / fine_ms)
@@ -220,6 +224,8 @@ def synthetic_line(*, event_below_ms: float | None = 300.0, event_reflection: fl
     bed_reflections = rng.uniform(0.03, 0.08, bed_times.size) * rng.choice([-1.0, 1.0], bed_times.size)
     for time_ms, value in zip(bed_times, bed_reflections):
         times = seafloor_ms + (time_ms - 1000.0) if strata_parallel else time_ms - 1.0 * traces
+        if parallel_from_trace is not None:
+            times = np.where(traces >= parallel_from_trace, seafloor_ms + (time_ms - 1000.0), times)
         add(times, np.where(times > seafloor_ms + 2.0, value, 0.0))
     if event_below_ms is not None:
         add(seafloor_ms + event_below_ms, np.full(n_traces, event_reflection))
@@ -227,12 +233,12 @@ def synthetic_line(*, event_below_ms: float | None = 300.0, event_reflection: fl
     return data[:, ::int(DT_MS / fine_ms)][:, :n_samples].astype(np.float32), seafloor_ms
 
 
-def search(data: np.ndarray, seafloor_ms: np.ndarray):
+def search(data: np.ndarray, seafloor_ms: np.ndarray, extend_min_semblance: float | None = None):
     return find_seafloor_parallel_events(
         data, DT_MS, 0.0, seafloor_ms, 0.3, search_from_ms=60.0, search_to_ms=800.0, window_traces=21,
         window_ms=20.0, min_semblance=0.6, min_semblance_gain=0.1, min_relative_amplitude=0.05,
         min_rms_dip_samples_per_trace=0.1, guard_ms=60.0, band_ms=200.0, min_extent_traces=40,
-        max_gap_traces=3, max_dip_samples_per_trace=2.5)
+        max_gap_traces=3, max_dip_samples_per_trace=2.5, extend_min_semblance=extend_min_semblance)
 
 
 def test_event_across_dipping_beds_is_found():
@@ -266,3 +272,54 @@ def test_no_event_where_nothing_cuts_across(case):
     else:
         data, seafloor_ms = synthetic_line(event_below_ms=None)
     assert search(data, seafloor_ms).events == ()
+
+
+def test_event_is_followed_where_the_strata_turn_parallel():
+    """Hysteresis (Canny 1986, from memory): an event that cuts dipping beds on traces 0-99 and runs
+    conformable with seafloor-parallel beds on 100-199 is found only where it cuts without following,
+    and over (nearly) the whole line with it, at 300 ms on every trace (analytic), flagged as cutting
+    only on the dipping part."""
+    data, seafloor_ms = synthetic_line(parallel_from_trace=100)
+    (strict,) = search(data, seafloor_ms).events
+    assert strict.trace_index[-1] <= 115
+    (followed,) = search(data, seafloor_ms, extend_min_semblance=0.4).events
+    assert followed.trace_index[0] <= strict.trace_index[0] and followed.trace_index[-1] >= 190
+    assert np.all(np.abs(followed.twt_below_seafloor_ms - 300.0) <= DT_MS)
+    cutting = followed.cutting
+    assert np.mean(cutting[followed.trace_index < 90]) > 0.9
+    assert not cutting[followed.trace_index > 130].any()
+
+
+def test_path_slope_of_a_line_and_a_gap():
+    """A path rising 0.7 ms/trace has slope 0.7 everywhere, also across a one-trace gap (analytic)."""
+    traces = np.arange(40, dtype=float)
+    path = 1200.0 + 0.7 * traces
+    np.testing.assert_allclose(path_slope_ms_per_trace(path, 5), 0.7, atol=1e-9)
+    gapped = np.where(traces == 12, np.nan, path)
+    slope = path_slope_ms_per_trace(gapped, 1)
+    assert np.isnan(slope[12])
+    np.testing.assert_allclose(np.delete(slope, 12), 0.7, atol=1e-9)
+
+
+def test_peg_leg_flags_follow_backus_sign_and_strength():
+    """A water-layer peg-leg arrives one seafloor time below its parent with amplitude -2 R_sf A
+    (Backus 1959; REFERENCES item 1): with R_sf = 0.3 a point 800 ms below a +1.0 parent with -0.6 is
+    flagged; the same point with +0.6 (same sign), or -1.5 (stronger than any peg-leg with R_sf <= 0.5),
+    or with no parent is not."""
+    n_traces, n_below = 10, 300
+    seafloor_ms = np.full(n_traces, 800.0)
+    stack = np.zeros((n_traces, n_below))
+    stack[:, 25] = 1.0  # parent 100 ms below the seafloor
+    trace_index = np.arange(n_traces)
+    below_ms = np.full(n_traces, 900.0)  # t_r + t_sf = 100 + 800
+
+    def flags(child: float, parent: bool = True) -> np.ndarray:
+        panel = stack.copy() if parent else np.zeros_like(stack)
+        panel[:, 225] = child
+        return water_layer_peg_leg_flags(panel, np.abs(panel), DT_MS, seafloor_ms, trace_index, below_ms,
+                                         np.full(n_traces, child), 1.0, 24.0)
+
+    assert flags(-2 * 0.3 * 1.0).all()
+    assert not flags(+0.6).any()
+    assert not flags(-1.5).any()
+    assert not flags(-0.6, parent=False).any()
