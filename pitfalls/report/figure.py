@@ -75,6 +75,7 @@ def draw(result: ScanResult, rules: Mapping[str, Any]) -> bytes:
         style = {"contact": "--", "seafloor": ":"}.get(horizon.kind, "-")
         axes.plot(numbers, horizon.twt_ms, style, color=colours(index % 10), linewidth=1.2, alpha=0.9,
                   label=f"{horizon.name} ({horizon.kind})")
+    boxes: dict[tuple, list] = {}  # findings with the same range share one box and one label
     for finding in result.findings[:MAX_BOXES]:
         span = finding.traces if section.inline_number is None else finding.xlines
         if span is None or finding.twt_ms is None:
@@ -82,12 +83,16 @@ def draw(result: ScanResult, rules: Mapping[str, Any]) -> bytes:
         if section.inline_number is not None and finding.inlines is not None and not (
                 finding.inlines[0] <= section.inline_number <= finding.inlines[1]):
             continue
-        colour = SEVERITY_COLOUR[finding.severity]
+        key = (tuple(span), tuple(round(t) for t in finding.twt_ms))
+        boxes.setdefault(key, []).append(finding)
+    for (span, window_ms), members in reversed(list(boxes.items())):  # best-ranked drawn last, on top
+        colour = SEVERITY_COLOUR[members[0].severity]
         pad_ms = 2 * section.dt_ms
-        axes.add_patch(Rectangle((span[0] - 0.5, finding.twt_ms[0] - pad_ms), span[1] - span[0] + 1,
-                                 finding.twt_ms[1] - finding.twt_ms[0] + 2 * pad_ms,
+        axes.add_patch(Rectangle((span[0] - 0.5, window_ms[0] - pad_ms), span[1] - span[0] + 1,
+                                 window_ms[1] - window_ms[0] + 2 * pad_ms,
                                  fill=False, edgecolor=colour, linewidth=1.8))
-        axes.text(span[0], finding.twt_ms[0] - pad_ms, f" #{finding.rank} {finding.id}", color="white", fontsize=8,
+        label = ", ".join(f"#{f.rank} {f.id}" for f in members)
+        axes.text(span[0], window_ms[0] - pad_ms, f" {label}", color="white", fontsize=8,
                   va="bottom", ha="left", bbox={"facecolor": colour, "edgecolor": "none", "pad": 1.5, "alpha": 0.9})
     axes.set_xlim(extent[0], extent[1])
     axes.set_ylim(extent[2], extent[3])
