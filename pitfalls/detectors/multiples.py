@@ -111,6 +111,7 @@ from pitfalls.physics.multiples import (
     seafloor_reflection_coefficient_from_peg_leg,
     time_dip_ratio,
 )
+from pitfalls.physics.runs import true_runs
 from pitfalls.physics.seafloor import dominant_frequency_hz, find_seafloor
 
 NAME = "multiples"
@@ -333,17 +334,6 @@ def _predictions(seafloor: _Surface, dip_angle_deg: np.ndarray, surfaces: list[_
 
 # --- runs of a pick on a prediction -------------------------------------------------------------
 
-def _runs(flags: np.ndarray, max_gap: int, min_length: int) -> list[tuple[int, int]]:
-    """Inclusive (first, last) index runs of True, bridging up to ``max_gap`` False values."""
-    indices = np.flatnonzero(flags)
-    if indices.size == 0:
-        return []
-    breaks = np.flatnonzero(np.diff(indices) > max_gap + 1)
-    starts = np.concatenate(([indices[0]], indices[breaks + 1]))
-    stops = np.concatenate((indices[breaks], [indices[-1]]))
-    return [(int(a), int(b)) for a, b in zip(starts, stops) if b - a + 1 >= min_length]
-
-
 def _horizon_findings(horizon: Horizon, candidate_sets, context) -> list[Finding]:
     settings = context["settings"]
     tolerance_ms = context["tolerance_ms"]
@@ -355,7 +345,7 @@ def _horizon_findings(horizon: Horizon, candidate_sets, context) -> list[Finding
         choice, columns, low, high = _nearest(members, pick)
         misfit = _band_misfit(pick, low, high)
         within = np.isfinite(pick) & np.isfinite(misfit) & (misfit <= tolerance_ms)
-        for first, last in _runs(within, settings["max_gap_traces"], settings["min_run_traces"]):
+        for first, last in true_runs(within, settings["max_gap_traces"], settings["min_run_traces"]):
             run = np.arange(first, last + 1)
             matched = run[within[run]]
             if matched.size < settings["min_run_traces"] // 2 + 1:
@@ -586,7 +576,7 @@ def _periodic_findings(section: Section, periodicity: _Periodicity, settings: Ma
     # bridge short gaps along the traces in every window
     bridged = np.zeros_like(above)
     for window in range(above.shape[1]):
-        for first, last in _runs(above[:, window], settings["max_gap_traces"], 1):
+        for first, last in true_runs(above[:, window], settings["max_gap_traces"], 1):
             bridged[first:last + 1, window] = True
     labels, count = label(bridged, structure=np.ones((3, 3), dtype=bool))
     findings = []
