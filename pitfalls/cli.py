@@ -10,7 +10,6 @@ import io
 import json
 import os
 import sys
-import tempfile
 from typing import Sequence
 
 from rich.console import Console
@@ -18,6 +17,7 @@ from rich.console import Console
 from pitfalls import __version__
 from pitfalls import detectors as registry
 from pitfalls.errors import PitfallsInputError
+from pitfalls.io.output import write_whole
 
 EXIT_OK, EXIT_FINDINGS, EXIT_INPUT = 0, 1, 2
 
@@ -70,18 +70,7 @@ def write_atomically(path: str, text: str | bytes) -> None:
     if not os.path.isdir(folder):
         raise PitfallsInputError(path, "", "its folder does not exist", "create the folder or choose another path")
     data = text.encode("utf-8") if isinstance(text, str) else text
-    handle, temporary = tempfile.mkstemp(dir=folder, prefix=".pitfalls-", suffix=".part")
-    try:
-        with os.fdopen(handle, "wb") as out:
-            out.write(data)
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(temporary, 0o666 & ~umask)  # mkstemp makes 0600; give the file the usual mode
-        os.replace(temporary, path)
-    except BaseException:
-        if os.path.exists(temporary):
-            os.unlink(temporary)
-        raise
+    write_whole(path, lambda temporary: temporary.write_bytes(data))
 
 
 def _load_rules(path: str | None):

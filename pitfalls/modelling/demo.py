@@ -28,7 +28,8 @@ from pitfalls.model import Horizon, Picks
 from pitfalls.modelling import shapes
 from pitfalls.modelling.earth import EarthModel, Overprint, Unit
 from pitfalls.modelling.section import ModelledSection, model_section
-from pitfalls.modelling.segy_writer import write_whole, write_picks_csv, write_section_segy
+from pitfalls.io.output import write_whole
+from pitfalls.modelling.segy_writer import write_picks_csv, write_section_segy
 from pitfalls.physics.hydrate import stability_base_depth_m
 
 LINE_NAME = "QT24-117"

@@ -19,13 +19,13 @@ from __future__ import annotations
 import csv
 import io
 import os
-import tempfile
 from collections.abc import Iterable, Mapping, Sequence
 from pathlib import Path
 
 import numpy as np
 import segyio
 
+from pitfalls.io.output import write_whole
 from pitfalls.model import Section
 
 TEXT_LINES = 40
@@ -58,21 +58,6 @@ def textual_header(lines: Sequence[str]) -> bytes:
             raise ValueError(f"textual header line {number} has a non-printable or non-ASCII character")
         cards.append(f"C{number:2d} {text}"[:TEXT_COLUMNS].ljust(TEXT_COLUMNS))
     return "".join(cards).encode("ascii")
-
-
-def write_whole(path: str | os.PathLike, write_into) -> None:
-    """Call ``write_into(temporary_path)`` and move the result onto ``path`` only if it succeeds."""
-    path = Path(path)
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent or ".")
-    os.close(handle)
-    try:
-        write_into(Path(temporary))
-        os.chmod(temporary, 0o644)
-        os.replace(temporary, path)
-    except BaseException:
-        if os.path.exists(temporary):
-            os.remove(temporary)
-        raise
 
 
 def _write_traces(
