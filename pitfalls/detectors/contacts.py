@@ -232,7 +232,10 @@ def _explained_by_strata(finding: Finding) -> Finding:
     """A tilt or closure breach of a contact that follows the strata is a consequence of that, not a
     second problem: at most medium, and saying so in its evidence."""
     severity = "medium" if finding.severity == "high" else finding.severity
-    return replace(finding, severity=severity, evidence={**finding.evidence, "explained_by": "contact.conformable"})
+    advice = ("This follows from the pick tracking a bed (see contact.conformable): settle that first. "
+              + finding.advice)
+    return replace(finding, severity=severity, advice=advice,
+                   evidence={**finding.evidence, "explained_by": "contact.conformable"})
 
 
 def _filled(seafloor_twt_ms: np.ndarray, t0_ms: float) -> np.ndarray:

@@ -487,7 +487,10 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
                 severity="high",
                 confidence=float(np.clip(max(confidence, share_on_boundary), 0.0, 1.0)),
                 title=(f"{horizon.name} leaves the strata at trace {evidence['jump_trace']} and follows a "
-                       f"seafloor-parallel event over traces {first_number}-{last_number}"),
+                       f"seafloor-parallel event over traces {first_number}-{last_number}"
+                       + (" with reversed polarity: a hydrate-like boundary, not a sequence boundary"
+                          if evidence["share_reversed_polarity"] >= 0.5 else
+                          " with the seafloor's polarity: a diagenetic-like boundary, not a sequence boundary")),
                 advice=_FOLLOWS_ADVICE,
                 horizon=horizon.name,
                 traces=(first_number, last_number),
