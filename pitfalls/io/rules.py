@@ -69,6 +69,8 @@ CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
         "weight_extent": (float, 0.0, 1.0),
         # Score factor for each earlier-ranked finding on the same horizon.
         "repeat_factor": (float, 0.0, 1.0),
+        # Findings their detector rates below this confidence are not reported.
+        "min_confidence": (float, 0.0, 1.0),
     },
 }
 

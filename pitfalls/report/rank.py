@@ -6,7 +6,8 @@
 the section's traces (2-D) or inline x crossline positions (3-D) the finding covers, 0 for
 a finding with no range. The weights are ``ranking.weight_*`` in the rules.
 
-Then, in score order, a horizon's k-th finding (k = 0 for its best) has its score multiplied
+Findings with a confidence below ``ranking.min_confidence`` are dropped first. Then, in
+score order, a horizon's k-th finding (k = 0 for its best) has its score multiplied
 by ``ranking.repeat_factor`` ** k, so that the top of the report covers different picks
 before it repeats one; findings with no horizon are not discounted. Ties are broken by
 severity, id, horizon and first trace, so the same findings always come in the same order.
@@ -45,7 +46,8 @@ def score(finding: Finding, info: SectionInfo, ranking: Mapping[str, Any]) -> fl
 
 def rank_findings(findings: Sequence[Finding], info: SectionInfo, ranking: Mapping[str, Any]) -> tuple[Finding, ...]:
     """Findings with ``score`` and ``rank`` set, best first."""
-    scored = [replace(f, score=score(f, info, ranking)) for f in findings]
+    scored = [replace(f, score=score(f, info, ranking)) for f in findings
+              if f.confidence >= ranking["min_confidence"]]
 
     def order(finding: Finding) -> tuple:
         first = finding.traces[0] if finding.traces else (finding.inlines[0] if finding.inlines else 0)

@@ -5,7 +5,7 @@ from pitfalls.model import Finding, SectionInfo
 from pitfalls.report.rank import rank_findings, score
 
 INFO = SectionInfo(path="x.sgy", sha256="0" * 64, geometry="2d", n_traces=200, n_samples=100, dt_ms=4.0, t0_ms=0.0)
-RANKING = {"weight_severity": 0.6, "weight_confidence": 0.3, "weight_extent": 0.1, "repeat_factor": 0.85}
+RANKING = {"weight_severity": 0.6, "weight_confidence": 0.3, "weight_extent": 0.1, "repeat_factor": 0.85, "min_confidence": 0.05}
 
 
 def finding(id_="pick.cycle-skip", severity="medium", confidence=0.5, horizon="H1", traces=(1, 50)):
@@ -34,3 +34,9 @@ def test_order_is_stable_for_ties():
     a = finding(id_="pick.cycle-skip", horizon=None)
     b = finding(id_="pick.polarity-flip", horizon=None)
     assert [f.id for f in rank_findings([b, a], INFO, RANKING)] == [f.id for f in rank_findings([a, b], INFO, RANKING)]
+
+
+def test_findings_their_detector_does_not_believe_are_dropped():
+    kept = finding(confidence=0.05)
+    ranked = rank_findings([finding(confidence=0.0), kept, finding(confidence=0.049)], INFO, RANKING)
+    assert [f.confidence for f in ranked] == [0.05]
