@@ -44,6 +44,12 @@ def build_parser() -> argparse.ArgumentParser:
     scan.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
     scan.add_argument("--annotated-picks", metavar="FILE.csv", help="write the pick rows back with their findings")
     scan.add_argument("--figure", metavar="FILE.png", help="draw the section, picks and findings (needs matplotlib)")
+    scan.add_argument("--accepted", metavar="FILE.yaml",
+                      help="findings a reviewer accepted (fingerprint, reason, by, date): shown as accepted, not gated")
+    scan.add_argument("--write-accepted", metavar="FILE.yaml",
+                      help="write a starting accepted-findings file with every finding of this scan commented out")
+    scan.add_argument("--detail", choices=("top", "all"), default="top",
+                      help="evidence panels for findings at medium and above (top, default) or for every finding (all)")
     scan.add_argument("--fail-on", choices=("high", "medium", "low", "never"), default="high",
                       help="exit 1 when a finding is at least this severe (default high)")
     scan.add_argument("--iline-byte", type=int, metavar="N", help="trace-header byte of the inline number (default 189)")
@@ -78,7 +84,7 @@ def _load_rules(path: str | None):
     return load_rules(path, registry.rule_keys())
 
 
-def _render_text(result, fmt: str, width: int | None = None) -> str:
+def _render_text(result, fmt: str, width: int | None = None, detail: str = "top") -> str:
     if fmt == "json":
         from pitfalls.report.json_report import report_dict
         return json.dumps(report_dict(result), indent=2) + "\n"
@@ -87,7 +93,7 @@ def _render_text(result, fmt: str, width: int | None = None) -> str:
         return render(result)
     from pitfalls.report.terminal import render
     buffer = io.StringIO()
-    Console(file=buffer, width=width or 120, color_system=None, force_terminal=False).print(render(result))
+    Console(file=buffer, width=width or 120, color_system=None, force_terminal=False).print(render(result, detail))
     return buffer.getvalue()
 
 
@@ -98,8 +104,12 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
                                  "use --2d for a line, or the byte options for a 3-D volume")
     only = [name.strip() for name in args.only.split(",") if name.strip()] if args.only else None
     rules, rules_path, rules_sha = _load_rules(args.rules)
-    for target in (args.output, args.annotated_picks, args.figure):
-        if target and os.path.abspath(target) in {os.path.abspath(p) for p in [args.section, *args.picks]}:
+    accepted = ()
+    if args.accepted:
+        from pitfalls.io.accepted import read_accepted
+        accepted = read_accepted(args.accepted)
+    for target in (args.output, args.annotated_picks, args.figure, args.write_accepted):
+        if target and os.path.abspath(target) in {os.path.abspath(p) for p in [args.section, *args.picks, *([args.accepted] if args.accepted else [])]}:
             raise PitfallsInputError(target, "", "is one of the input files", "write the output somewhere else; inputs are never changed")
     if args.figure:
         from pitfalls.report.figure import require_matplotlib
@@ -116,7 +126,13 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     else:
         result = scan(args.section, args.picks, rules, rules_path, rules_sha, only,
                       args.iline_byte or 189, args.xline_byte or 193, args.force_2d)
-    _emit(result, args.format, args.output, args.quiet, stdout)
+    if args.accepted:
+        from pitfalls.report.accepted import apply_accepted
+        result = apply_accepted(result, accepted)
+    _emit(result, args.format, args.output, args.quiet, stdout, args.detail)
+    if args.write_accepted:
+        from pitfalls.report.accepted import accepted_file_text
+        write_atomically(args.write_accepted, accepted_file_text(result))
     if args.annotated_picks:
         if not args.picks:
             raise PitfallsInputError("--annotated-picks", "", "needs at least one --picks file", "add --picks FILE")
@@ -130,15 +146,15 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     return EXIT_OK
 
 
-def _emit(result, fmt: str, output: str | None, quiet: bool, stdout: Console) -> None:
+def _emit(result, fmt: str, output: str | None, quiet: bool, stdout: Console, detail: str = "top") -> None:
     if output:
-        write_atomically(output, _render_text(result, fmt))
+        write_atomically(output, _render_text(result, fmt, detail=detail))
         return
     if quiet:
         return
     if fmt == "terminal":
         from pitfalls.report.terminal import render
-        stdout.print(render(result))
+        stdout.print(render(result, detail))
     else:
         sys.stdout.write(_render_text(result, fmt))
         sys.stdout.flush()

@@ -58,6 +58,8 @@ class ScanResult:
     detectors: tuple[DetectorRun, ...]
     findings: tuple[Finding, ...]
     seafloor: SeafloorSummary
+    stale_accepted: tuple[Mapping[str, Any], ...] = ()
+    """Accepted-findings entries (``--accepted``) that matched no finding of this scan."""
 
     @property
     def failed(self) -> tuple[DetectorRun, ...]:
@@ -67,7 +69,8 @@ class ScanResult:
         """True when a finding is at least as severe as ``threshold`` (``never`` is never reached)."""
         if threshold == "never":
             return False
-        return any(SEVERITY_ORDER[f.severity] <= SEVERITY_ORDER[threshold] for f in self.findings)
+        return any(SEVERITY_ORDER[f.severity] <= SEVERITY_ORDER[threshold] for f in self.findings
+                   if f.accepted is None)  # a reviewer's accepted finding does not hold the gate
 
 
 def select_detectors(only: Sequence[str] | None) -> tuple:

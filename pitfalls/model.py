@@ -152,6 +152,12 @@ class Finding:
     """Ranking score in [0, 1], set by ``report.rank`` after all detectors run."""
     rank: int = 0
     """1 = look at this first; set by ``report.rank``."""
+    detectors: tuple[str, ...] = ()
+    """Every detector whose evidence the finding carries, when ``report.rank`` joined one event's findings."""
+    fingerprint: str = ""
+    """Short name of the finding, stable between runs and across small pick edits; set by ``report.rank``."""
+    accepted: Mapping[str, Any] | None = None
+    """``{"reason", "by", "date"}`` when a reviewer accepted the finding (``--accepted``), else None."""
 
 
 @dataclass(frozen=True)

@@ -71,6 +71,8 @@ CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
         "repeat_factor": (float, 0.0, 1.0),
         # Findings their detector rates below this confidence are not reported.
         "min_confidence": (float, 0.0, 1.0),
+        # Share of the shorter range two findings must share to be one event (1 = only nested ranges).
+        "merge_min_overlap": (float, 0.0, 1.0),
     },
 }
 

@@ -49,6 +49,9 @@ def finding_dict(finding: Finding) -> dict[str, Any]:
         "title": finding.title,
         "evidence": _plain(dict(finding.evidence)),
         "advice": finding.advice,
+        "fingerprint": finding.fingerprint,
+        "detectors": list(finding.detectors or (finding.detector,)),
+        "accepted": _plain(dict(finding.accepted)) if finding.accepted is not None else None,
     }
 
 
@@ -67,7 +70,9 @@ def report_dict(result: ScanResult) -> dict[str, Any]:
         "detectors": [{"name": run.name, "status": run.status, "seconds": round(run.seconds, 4)}
                       for run in result.detectors],
         "findings": [finding_dict(f) for f in result.findings],
-        "summary": {severity: sum(1 for f in result.findings if f.severity == severity)
-                    for severity in ("high", "medium", "low")},
+        "summary": {**{severity: sum(1 for f in result.findings if f.severity == severity and f.accepted is None)
+                       for severity in ("high", "medium", "low")},
+                    "accepted": sum(1 for f in result.findings if f.accepted is not None)},
+        "stale_accepted": [_plain(dict(entry)) for entry in result.stale_accepted],
         "caution": CAUTION,
     }

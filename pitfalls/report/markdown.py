@@ -32,12 +32,16 @@ def render(result: ScanResult) -> str:
     else:
         lines += ["| # | severity | id | horizon | where | twt | confidence | what |", "|---:|---|---|---|---|---|---:|---|"]
         for f in result.findings:
-            lines.append(f"| {f.rank} | {f.severity} | `{f.id}` | {_cell(f.horizon or '-')} | {location(f)} | "
+            severity = f.severity + (", accepted" if f.accepted is not None else "")
+            lines.append(f"| {f.rank} | {severity} | `{f.id}` | {_cell(f.horizon or '-')} | {location(f)} | "
                          f"{time_window(f)} | {f.confidence:.2f} | {_cell(f.title)} |")
         lines.append("")
         for f in result.findings:
             lines += [f"### {f.rank}. `{f.id}` ({f.severity})", "", f.title, "",
-                      f"{location(f)}, {time_window(f)}; confidence {f.confidence:.2f}, score {f.score:.2f}.", ""]
+                      f"{location(f)}, {time_window(f)}; confidence {f.confidence:.2f}, score {f.score:.2f}; "
+                      f"fingerprint `{f.fingerprint}`.", ""]
+            if f.accepted is not None:
+                lines += [f"Accepted by {_cell(f.accepted['by'])} on {f.accepted['date']}: {_cell(f.accepted['reason'])}", ""]
             lines += [f"- {key}: {number(value)}" for key, value in f.evidence.items()]
             lines += ["", f"**Check:** {f.advice}", ""]
     lines += ["## Caution", "", CAUTION, ""]

@@ -1,4 +1,13 @@
-"""Scores and ranks findings across detectors.
+"""Joins the findings that describe one event, then scores and ranks them across detectors.
+
+One event, one finding. Two findings describe the same event when they are about the same
+pick (or both about the section alone), their time windows overlap, and their trace ranges
+(inline and crossline ranges on a volume) share at least ``ranking.merge_min_overlap`` of the
+shorter range. Joined findings, strongest first, keep the id, title and advice of the
+strongest (most severe; at equal severity a specific id before a generic one such as
+``contact.unpicked-flat-event``; then the most confident), the largest confidence, the union
+of the ranges, and every member's evidence: the other members' numbers under keys prefixed
+with their id, their ids in ``evidence["merged_ids"]``, and every detector in ``detectors``.
 
     score = (w_s * s + w_c * confidence + w_e * extent) / (w_s + w_c + w_e)
 
@@ -11,9 +20,15 @@ score order, a horizon's k-th finding (k = 0 for its best) has its score multipl
 by ``ranking.repeat_factor`` ** k, so that the top of the report covers different picks
 before it repeats one; findings with no horizon are not discounted. Ties are broken by
 severity, id, horizon and first trace, so the same findings always come in the same order.
+
+Every finding gets a ``fingerprint``: a short hash of its id, its horizon and its place among
+the findings with that id on that horizon in trace order. It stays the same between runs and
+when a pick is edited a little (its ranges move, its order does not), which is what accepted
+findings are matched by.
 """
 from __future__ import annotations
 
+import hashlib
 from dataclasses import replace
 from typing import Any, Mapping, Sequence
 
@@ -21,6 +36,8 @@ from pitfalls.model import Finding, SectionInfo
 
 SEVERITY_VALUE = {"high": 1.0, "medium": 0.6, "low": 0.25}
 SEVERITY_ORDER = {"high": 0, "medium": 1, "low": 2}
+GENERIC_IDS = frozenset({"contact.unpicked-flat-event", "pick.crosses-reflections", "pick.polarity-flip"})
+"""Ids that say something is odd without saying what it is; a specific id names a joined event first."""
 
 
 def extent_fraction(finding: Finding, info: SectionInfo) -> float:
@@ -44,10 +61,111 @@ def score(finding: Finding, info: SectionInfo, ranking: Mapping[str, Any]) -> fl
     return float(min(1.0, max(0.0, sum(w * v for w, v in zip(weights, values)) / total)))
 
 
+# --- one finding per event --------------------------------------------------------------------
+def _shared_fraction(a: tuple | None, b: tuple | None) -> float | None:
+    """Length of the overlap of two inclusive ranges over the shorter one; None when either is missing."""
+    if a is None or b is None:
+        return None
+    shared = min(a[1], b[1]) - max(a[0], b[0]) + 1
+    shorter = min(a[1] - a[0], b[1] - b[0]) + 1
+    return max(0.0, shared) / max(1, shorter)
+
+
+def same_event(a: Finding, b: Finding, min_overlap: float) -> bool:
+    """True when two findings describe one event (see the module docstring)."""
+    if a.horizon != b.horizon or a.twt_ms is None or b.twt_ms is None:
+        return False
+    if not (a.twt_ms[0] <= b.twt_ms[1] and b.twt_ms[0] <= a.twt_ms[1]):
+        return False
+    if a.traces is not None or b.traces is not None:
+        shared = _shared_fraction(a.traces, b.traces)
+        return shared is not None and shared > 0 and shared >= min_overlap
+    inline = _shared_fraction(a.inlines, b.inlines)
+    xline = _shared_fraction(a.xlines, b.xlines)
+    return (inline is not None and xline is not None and min(inline, xline) > 0
+            and min(inline, xline) >= min_overlap)
+
+
+def _strength(finding: Finding) -> tuple:
+    return (SEVERITY_ORDER[finding.severity], finding.id in GENERIC_IDS, -finding.confidence, finding.id)
+
+
+def _span(a: tuple | None, b: tuple | None) -> tuple | None:
+    if a is None or b is None:
+        return a if b is None else b
+    return (min(a[0], b[0]), max(a[1], b[1]))
+
+
+def _join(members: Sequence[Finding]) -> Finding:
+    """One finding from an event's members, strongest first."""
+    lead = members[0]
+    if len(members) == 1:
+        return replace(lead, detectors=lead.detectors or (lead.detector,))
+    evidence: dict[str, Any] = dict(lead.evidence)
+    merged_ids: list[str] = []
+    traces, twt_ms, inlines, xlines = lead.traces, lead.twt_ms, lead.inlines, lead.xlines
+    also = []
+    for member in members[1:]:
+        merged_ids.append(member.id)
+        for key, value in member.evidence.items():
+            evidence[f"{member.id}.{key}"] = value
+        traces, twt_ms = _span(traces, member.traces), _span(twt_ms, member.twt_ms)
+        inlines, xlines = _span(inlines, member.inlines), _span(xlines, member.xlines)
+        also.append(f"{member.id} ({member.severity}): {member.title}")
+    evidence["merged_ids"] = merged_ids
+    detectors = tuple(sorted({d for m in members for d in (m.detectors or (m.detector,))}))
+    advice = lead.advice + " The same event was also found as " + "; ".join(also) + "."
+    return replace(lead, confidence=max(m.confidence for m in members), traces=traces, twt_ms=twt_ms,
+                   inlines=inlines, xlines=xlines, evidence=evidence, advice=advice, detectors=detectors)
+
+
+def merge_events(findings: Sequence[Finding], min_overlap: float) -> list[Finding]:
+    """Join the findings that describe one event into one finding each (see the module docstring)."""
+    groups: list[list[Finding]] = []
+    for finding in sorted(findings, key=_strength):
+        for group in groups:
+            if any(same_event(member, finding, min_overlap) for member in group):
+                group.append(finding)
+                break
+        else:
+            groups.append([finding])
+    return [_join(group) for group in groups]
+
+
+# --- fingerprints -----------------------------------------------------------------------------
+def _first_position(finding: Finding) -> tuple:
+    first = finding.traces[0] if finding.traces else (finding.xlines[0] if finding.xlines else 0)
+    inline = finding.inlines[0] if finding.inlines else 0
+    time = finding.twt_ms[0] if finding.twt_ms else 0.0
+    return (inline, first, time)
+
+
+def fingerprint_text(finding_id: str, horizon: str | None, ordinal: int) -> str:
+    """The fingerprint of the ``ordinal``-th finding (0-based, in trace order) with this id on this horizon."""
+    key = f"{finding_id}\n{horizon if horizon is not None else ''}\n{ordinal}"
+    return hashlib.sha256(key.encode("utf-8")).hexdigest()[:12]
+
+
+def with_fingerprints(findings: Sequence[Finding]) -> list[Finding]:
+    """Each finding with its fingerprint set; the order of ``findings`` is kept."""
+    order = sorted(range(len(findings)), key=lambda i: (findings[i].id, findings[i].horizon or "",
+                                                        _first_position(findings[i])))
+    counts: dict[tuple[str, str | None], int] = {}
+    prints: dict[int, str] = {}
+    for index in order:
+        finding = findings[index]
+        key = (finding.id, finding.horizon)
+        prints[index] = fingerprint_text(finding.id, finding.horizon, counts.get(key, 0))
+        counts[key] = counts.get(key, 0) + 1
+    return [replace(finding, fingerprint=prints[index]) for index, finding in enumerate(findings)]
+
+
+# --- ranking ----------------------------------------------------------------------------------
 def rank_findings(findings: Sequence[Finding], info: SectionInfo, ranking: Mapping[str, Any]) -> tuple[Finding, ...]:
-    """Findings with ``score`` and ``rank`` set, best first."""
-    scored = [replace(f, score=score(f, info, ranking)) for f in findings
-              if f.confidence >= ranking["min_confidence"]]
+    """Findings joined per event, with ``score``, ``rank`` and ``fingerprint`` set, best first."""
+    believed = [f for f in findings if f.confidence >= ranking["min_confidence"]]
+    joined = merge_events(believed, float(ranking.get("merge_min_overlap", 0.5)))
+    scored = [replace(f, score=score(f, info, ranking)) for f in with_fingerprints(joined)]
 
     def order(finding: Finding) -> tuple:
         first = finding.traces[0] if finding.traces else (finding.inlines[0] if finding.inlines else 0)

@@ -12,8 +12,12 @@ from pitfalls.report.text import CAUTION, location, number, section_lines, time_
 SEVERITY_STYLE = {"high": "bold red", "medium": "yellow", "low": "cyan"}
 
 
-def render(result: ScanResult) -> Group:
-    """Header, failed detectors, the picks, the ranked findings, each finding's detail, the caution."""
+def render(result: ScanResult, detail: str = "top") -> Group:
+    """Header, failed detectors, the picks, the ranked findings, the evidence panels, the caution.
+
+    ``detail="top"`` gives an evidence panel to the findings at medium and above that no reviewer
+    has accepted; ``"all"`` to every finding.
+    """
     parts: list = []
     if result.failed:
         failed = "\n".join(f"{run.name}: {run.message}" for run in result.failed)
@@ -22,13 +26,26 @@ def render(result: ScanResult) -> Group:
     header = Text("\n".join(section_lines(result)))
     ran = ", ".join(f"{run.name} {run.status} ({run.seconds:.2f} s)" for run in result.detectors)
     header.append(f"\nDetectors: {ran}")
-    summary = {s: sum(f.severity == s for f in result.findings) for s in ("high", "medium", "low")}
+    summary = {s: sum(f.severity == s and f.accepted is None for f in result.findings) for s in ("high", "medium", "low")}
     header.append(f"\nFindings: {summary['high']} high, {summary['medium']} medium, {summary['low']} low")
+    n_accepted = sum(f.accepted is not None for f in result.findings)
+    if n_accepted:
+        header.append(f", {n_accepted} accepted by a reviewer (not gated)")
+    if result.stale_accepted:
+        stale = "; ".join(f"{entry['fingerprint']} ({entry.get('id') or 'no id'}, by {entry['by']})"
+                          for entry in result.stale_accepted)
+        header.append(f"\nStale accepted entries (match no finding now; remove them): {stale}")
     parts.append(Panel(header, title="pitfalls scan", border_style="blue"))
     parts.append(_picks_table(result))
     if result.findings:
         parts.append(_findings_table(result))
-        parts.extend(_details(result))
+        shown = [f for f in result.findings
+                 if detail == "all" or (f.severity in ("high", "medium") and f.accepted is None)]
+        parts.extend(_details(shown))
+        hidden = len(result.findings) - len(shown)
+        if hidden:
+            parts.append(Text(f"{hidden} more finding{'s' if hidden != 1 else ''} (low or accepted) in the table above; "
+                              "--detail all shows their evidence."))
     else:
         parts.append(Text("No pitfalls found by the detectors that ran."))
     parts.append(Panel(Text(CAUTION), title="Caution", border_style="magenta"))
@@ -65,17 +82,24 @@ def _findings_table(result: ScanResult) -> Table:
         cell.append(f"  {finding.horizon or '(section)'}  {location(finding)}  {time_window(finding)}  "
                     f"confidence {finding.confidence:.2f}\n")
         cell.append(finding.title)
-        table.add_row(str(finding.rank), Text(finding.severity, style=SEVERITY_STYLE[finding.severity]), cell)
+        severity = Text(finding.severity, style=SEVERITY_STYLE[finding.severity])
+        if finding.accepted is not None:
+            severity = Text(f"{finding.severity}\naccepted", style="dim")
+            cell.append(f"\nAccepted by {finding.accepted['by']} on {finding.accepted['date']}: {finding.accepted['reason']}",
+                        style="dim")
+        table.add_row(str(finding.rank), severity, cell)
     return table
 
 
-def _details(result: ScanResult) -> list:
+def _details(findings) -> list:
     parts = []
-    for finding in result.findings:
+    for finding in findings:
         body = Text()
         body.append(finding.title + "\n", style="bold")
         body.append(f"{location(finding)}, {time_window(finding)}; confidence {finding.confidence:.2f}, "
-                    f"score {finding.score:.2f}\n")
+                    f"score {finding.score:.2f}; fingerprint {finding.fingerprint}\n")
+        if len(finding.detectors) > 1:
+            body.append(f"Found by {', '.join(finding.detectors)}\n")
         for key, value in finding.evidence.items():
             body.append(f"  {key}: {number(value)}\n")
         body.append("Check: ", style="bold")
