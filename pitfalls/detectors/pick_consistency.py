@@ -22,8 +22,13 @@ Polarity flip: the sign of the sample at each pick (strongest sample within
 least ``min_amplitude_fraction`` of the horizon's median absolute amplitude (a pick on a
 zero crossing is not a flip). Runs of at least ``min_run_traces`` reversed traces are
 reported: medium from ``medium_min_traces`` traces on, low below that (short flips are
-mostly interference with a crossing event). Confidence is the run's share of reversed
-samples times a term that grows with the amplitude ratio.
+mostly interference with a crossing event). A flip is medium only when the pick also steps
+off its trend (residual step against the median of ``trend_traces`` neighbours either side)
+by at least ``flip_min_step_periods`` dominant periods within two traces of either end of
+the flip: that is a pick moved to the neighbouring lobe. Where the pick runs smoothly through
+the flip, the pick stays on its reflection and the reflection itself changes sign (a gas
+sand, a boundary crossing the bed, tuning): a low note that names it. Confidence is the run's
+share of reversed samples times a term that grows with the amplitude ratio.
 
 References
 ----------
@@ -65,6 +70,7 @@ RULE_KEYS = {
     "min_run_traces": (int, 1, 100000),
     "medium_min_traces": (int, 1, 100000),
     "max_gap_traces": (int, 0, 1000),
+    "flip_min_step_periods": (float, 0.0, 2.0),
 }
 
 
@@ -80,7 +86,8 @@ def detect(section: Section, picks: Picks, rules: Mapping[str, Any]) -> list[Fin
         if np.isfinite(frequency_hz) and frequency_hz > 0:
             findings.extend(_cycle_skips(section, horizon, 1000.0 / frequency_hz, settings))
         if horizon.kind != "seafloor":
-            findings.extend(_polarity_flips(section, horizon, settings))
+            period_ms = 1000.0 / frequency_hz if np.isfinite(frequency_hz) and frequency_hz > 0 else np.nan
+            findings.extend(_polarity_flips(section, horizon, period_ms, settings))
     return findings
 
 
@@ -137,7 +144,21 @@ def _cycle_skips(section: Section, horizon: Horizon, period_ms: float, settings:
     return findings
 
 
-def _polarity_flips(section: Section, horizon: Horizon, settings: Mapping[str, Any]) -> list[Finding]:
+def _step_off_trend_periods(twt_ms: np.ndarray, period_ms: float, trend_traces: int) -> np.ndarray:
+    """Per trace, |step from the previous trace - median step of the neighbours| in periods; 0 at gaps."""
+    steps = np.diff(twt_ms)
+    finite = np.isfinite(steps)
+    out = np.zeros(twt_ms.size)
+    if finite.sum() < 3 or not np.isfinite(period_ms):
+        return out
+    filled = np.interp(np.arange(steps.size), np.flatnonzero(finite), steps[finite])
+    trend = median_filter(filled, size=2 * trend_traces + 1, mode="nearest")
+    out[1:] = np.where(finite, np.abs(steps - trend) / period_ms, 0.0)
+    return out
+
+
+def _polarity_flips(section: Section, horizon: Horizon, period_ms: float,
+                    settings: Mapping[str, Any]) -> list[Finding]:
     amplitude = amplitude_at(section, horizon.twt_ms, settings["snap_ms"])
     strong = np.abs(amplitude) >= settings["min_amplitude_fraction"] * np.nanmedian(np.abs(amplitude))
     usual = majority_sign(amplitude[strong])
@@ -145,12 +166,17 @@ def _polarity_flips(section: Section, horizon: Horizon, settings: Mapping[str, A
         return []
     reversed_ = strong & (np.sign(amplitude) == -usual)
     findings = []
+    step_periods = _step_off_trend_periods(np.asarray(horizon.twt_ms, dtype=float), period_ms,
+                                           int(settings["trend_traces"]))
     for first, last in true_runs(reversed_, int(settings["max_gap_traces"]), int(settings["min_run_traces"])):
         stretch = slice(first, last + 1)
+        edges = np.r_[step_periods[max(first - 2, 0):first + 3], step_periods[max(last - 1, 0):last + 4]]
+        edge_step = float(edges.max()) if edges.size else 0.0
+        moved = not np.isfinite(period_ms) or edge_step >= settings["flip_min_step_periods"]
         share = float(np.mean(reversed_[stretch][np.isfinite(amplitude[stretch])]))
         ratio = float(np.nanmedian(np.abs(amplitude[stretch])) / np.nanmedian(np.abs(amplitude[strong & ~reversed_])))
         confidence = float(np.clip(share * min(1.0, 0.5 + 0.5 * ratio), 0.0, 1.0))
-        severity = "medium" if last - first + 1 >= settings["medium_min_traces"] else "low"
+        severity = "medium" if last - first + 1 >= settings["medium_min_traces"] and moved else "low"
         first_number, last_number = int(section.trace_numbers[first]), int(section.trace_numbers[last])
         times = horizon.twt_ms[stretch][np.isfinite(horizon.twt_ms[stretch])]
         findings.append(Finding(
@@ -160,6 +186,7 @@ def _polarity_flips(section: Section, horizon: Horizon, settings: Mapping[str, A
             advice=KINDS["polarity-flip"][2], horizon=horizon.name, traces=(first_number, last_number),
             twt_ms=(float(times.min()), float(times.max())),
             evidence={"horizon_polarity": usual, "reversed_fraction": share, "n_traces": last - first + 1,
-                      "amplitude_ratio_to_rest": ratio},
+                      "amplitude_ratio_to_rest": ratio, "step_at_flip_periods": edge_step,
+                      "pick_moved_at_flip": bool(moved)},
         ))
     return findings

@@ -91,6 +91,30 @@ def test_polarity_flip(rules):
     assert 0.8 < flip.evidence["amplitude_ratio_to_rest"] < 1.2
 
 
+def test_long_flip_onto_the_neighbouring_lobe_is_medium(rules):
+    """Forty traces half a period down: the pick moved to the trough, a step of 0.5 period at both ends."""
+    twt = np.full(N_TRACES, CENTRE_MS)
+    twt[30:70] += PERIOD_MS / 2
+    findings = run(wave_train_section(), twt, rules)
+    assert [(f.id, f.severity, f.traces) for f in findings] == [("pick.polarity-flip", "medium", (31, 70))]
+    assert findings[0].evidence["step_at_flip_periods"] == pytest.approx(0.5, abs=0.05)
+    assert findings[0].evidence["pick_moved_at_flip"] is True
+
+
+def test_reflection_that_changes_sign_under_a_smooth_pick_is_a_note(rules):
+    """The reflection itself reverses on traces 31-70 (as a gas sand's top does) while the pick stays on
+    it without a step: the flip is named, but only as a low note (flip_min_step_periods)."""
+    section = wave_train_section()
+    data = section.data.copy()
+    window = (section.twt_ms > 400.0)
+    data[30:70, window] *= -1.0
+    flipped = Section(data=data, dt_ms=DT_MS, t0_ms=0.0, trace_spacing_m=12.5,
+                      trace_numbers=section.trace_numbers, name="reversing reflection")
+    findings = run(flipped, np.full(N_TRACES, CENTRE_MS), rules)
+    assert [(f.id, f.severity, f.traces) for f in findings] == [("pick.polarity-flip", "low", (31, 70))]
+    assert findings[0].evidence["pick_moved_at_flip"] is False
+
+
 def test_short_flip_is_ignored(rules):
     twt = np.full(N_TRACES, CENTRE_MS)
     twt[30:33] += PERIOD_MS / 2  # three traces: below min_run_traces
