@@ -57,6 +57,11 @@ the seafloor within ``max_pick_angle_deg`` over ``pick_slope_traces``), the data
 reverse polarity of the seafloor, the data aligned on the pick coherent (semblance at least
 ``min_semblance``), and not on a seafloor multiple or a water-layer peg-leg. This covers stretches
 where the strata run too nearly parallel to the boundary for the section-wide search.
+A run on a boundary is left alone where, on most of its traces, the strata above the pick
+(``guard_ms`` to ``band_ms``) run within ``max_pick_angle_deg`` of it and within
+``bedded_side_ratio`` of the angle the strata below make with it: the pick is then bedding, a
+drape over the seafloor or the base of a draping package, since a boundary set after deposition
+cuts the strata above it (below it a parallel free-gas base may mask the cut).
 A run of at least ``min_pick_run_traces`` traces on a boundary is
 ``crosscut.pick-follows-boundary`` (high) when the pick departs from the strata by more than
 ``max_pick_angle_deg`` on most of it, or when the strata around the pick (weighted median dip
@@ -176,6 +181,7 @@ RULE_KEYS = {
     "min_pick_divergence_ms": (float, 0.0, 500.0),
     "pick_phase_share": (float, 0.5, 1.0),
     "medium_pick_run_traces": (int, 1, 100000),
+    "bedded_side_ratio": (float, 0.0, 1.0),
 }
 
 _EVENT_ADVICE = {
@@ -425,6 +431,19 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
                                        int(settings["window_traces"]) // 2, float(settings["guard_ms"]),
                                        float(settings["band_ms"]))
     divergence_ms = below_slope_ms - strata_ms  # pick slope minus stratal dip, both relative to the seafloor
+    # The strata on each side of the pick: where those above run with the pick, and clearly more closely
+    # than those below, the pick is bedding (a drape over the seafloor, or the base of a draping package
+    # over dipping strata). A boundary set after deposition cuts the strata above it; below it the strata
+    # may be cut too or masked by a parallel free-gas base, so the side below alone decides nothing.
+    side_angle = {}
+    for side in ("above", "below"):
+        side_ms = stratal_dip_along_path(search, below_ms, dt_ms, np.flatnonzero(on_boundary),
+                                         int(settings["window_traces"]) // 2, float(settings["guard_ms"]),
+                                         float(settings["band_ms"]), side=side)
+        side_angle[side] = np.abs(np.nan_to_num(dip_angle_deg(below_slope_ms - side_ms, interval_velocity,
+                                                              section.trace_spacing_m), nan=90.0))
+    bedded = ((side_angle["above"] <= limit)
+              & (side_angle["above"] <= float(settings["bedded_side_ratio"]) * side_angle["below"]))
 
     beyond = np.abs(np.nan_to_num(departure, nan=0.0)) > limit
     departs = beyond & (on_boundary | ~coherent)
@@ -436,6 +455,8 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
         cut_ms = float(np.nansum(divergence_ms[first:last + 1]))  # how far the strata drift from the pick over the run
         if np.mean(beyond[first:last + 1]) < 0.5 and abs(cut_ms) < min_divergence_ms:
             continue  # the pick crosses the event with the strata, or the strata parallel it
+        if np.mean(bedded[first:last + 1]) >= 0.5:
+            continue  # the strata above run with the pick over most of the run: it follows bedding
         for run_first, run_last in runs:  # join the ramp onto the event and any departures along it
             if run_first <= last + 3 and run_last >= first - 3:
                 first, last = min(first, run_first), max(last, run_last)

@@ -162,7 +162,7 @@ def dip_steered_semblance(flattened: np.ndarray, trace_index: np.ndarray, sample
 
 
 def banded_stratal_dip(dip_samples_per_trace: np.ndarray, weight: np.ndarray, window_traces: int,
-                       guard_samples: int, band_samples: int) -> tuple[np.ndarray, np.ndarray]:
+                       guard_samples: int, band_samples: int, side: str = "both") -> tuple[np.ndarray, np.ndarray]:
     """Weighted stratal dip in bands above and below each sample, leaving out the sample's own event.
 
     Parameters
@@ -175,6 +175,8 @@ def banded_stratal_dip(dip_samples_per_trace: np.ndarray, weight: np.ndarray, wi
         Samples either side of the centre left out (the event and its wavelet).
     band_samples : int
         Samples either side of the centre up to which the bands reach.
+    side : str
+        ``both`` bands, or only the band ``above`` (earlier times) or ``below`` the centre.
 
     Returns
     -------
@@ -187,6 +189,12 @@ def banded_stratal_dip(dip_samples_per_trace: np.ndarray, weight: np.ndarray, wi
     band_samples = max(band_samples, guard_samples + 1)
     offsets = np.arange(-band_samples, band_samples + 1)
     kernel = (np.abs(offsets) >= guard_samples).astype(np.float64)
+    if side == "above":
+        kernel[offsets > 0] = 0.0  # correlate1d: offset k reads sample i + k, so negative offsets lie above
+    elif side == "below":
+        kernel[offsets < 0] = 0.0
+    elif side != "both":
+        raise ValueError(f"side must be 'both', 'above' or 'below', not {side!r}")
 
     def band_sum(values: np.ndarray) -> np.ndarray:
         across = uniform_filter1d(values, window_traces, axis=0, mode="constant")
@@ -326,8 +334,11 @@ def find_seafloor_parallel_events(
     min_relative_amplitude : float
         Least envelope of the seafloor-parallel stack relative to ``reference_amplitude``.
     min_rms_dip_samples_per_trace : float or ndarray of shape (n_below,)
-        Least RMS stratal dip relative to the seafloor around an event point (may vary with
-        time below the seafloor, since the angle it stands for depends on velocity).
+        Least RMS stratal dip relative to the seafloor around an event point, in the bands
+        above and below together and in the band above alone: a boundary set after deposition
+        cuts the strata above it too, while the base of a package draping the seafloor has
+        parallel strata above it (may vary with time below the seafloor, since the angle it
+        stands for depends on velocity).
     guard_ms, band_ms : float
         The stratal dip is measured between ``guard_ms`` and ``band_ms`` above and below each point.
     min_extent_traces, max_gap_traces : int
@@ -376,6 +387,10 @@ def find_seafloor_parallel_events(
     mean_dip, rms_dip = banded_stratal_dip(stratal_dip, weight, window_traces, guard_samples, band_samples)
     threshold = np.broadcast_to(np.asarray(min_rms_dip_samples_per_trace, dtype=float), (n_below,))
     candidate &= rms_dip >= threshold[None, :]
+    # A boundary set after deposition cuts the strata above it as well; the base of a package that drapes
+    # the seafloor has parallel strata above it and dipping strata only below: it is bedding.
+    _, rms_above = banded_stratal_dip(stratal_dip, weight, window_traces, guard_samples, band_samples, side="above")
+    candidate &= rms_above >= threshold[None, :]
     trace_points, sample_points = np.nonzero(candidate)
     if trace_points.size:
         along_strata = dip_steered_semblance(flattened, trace_points, sample_points,
@@ -434,7 +449,7 @@ def _measure_event(flattened: np.ndarray, semblance: np.ndarray, stratal_dip: np
 
 
 def band_median_dip(dip: np.ndarray, weight: np.ndarray, trace: int, sample: int, half_traces: int,
-                    guard_samples: int, band_samples: int) -> float:
+                    guard_samples: int, band_samples: int, side: str = "both") -> float:
     """Weighted median of the structure-tensor dip in the bands above and below one point.
 
     Other seafloor-parallel reflections in the band (a free-gas base, the seafloor) are a
@@ -450,6 +465,8 @@ def band_median_dip(dip: np.ndarray, weight: np.ndarray, trace: int, sample: int
         Traces either side that the bands span.
     guard_samples, band_samples : int
         The bands reach from ``guard_samples`` to ``band_samples`` above and below the point.
+    side : str
+        ``both`` bands, or only the band ``above`` or ``below`` the point.
 
     Returns
     -------
@@ -459,6 +476,10 @@ def band_median_dip(dip: np.ndarray, weight: np.ndarray, trace: int, sample: int
     low, high = max(0, trace - half_traces), min(dip.shape[0], trace + half_traces + 1)
     above = slice(max(0, sample - band_samples), max(0, sample - guard_samples + 1))
     below = slice(min(dip.shape[1], sample + guard_samples), min(dip.shape[1], sample + band_samples + 1))
+    if side == "above":
+        below = slice(0, 0)
+    elif side == "below":
+        above = slice(0, 0)
     values = np.concatenate((dip[low:high, above].ravel(), dip[low:high, below].ravel()))
     weights = np.concatenate((weight[low:high, above].ravel(), weight[low:high, below].ravel()))
     if weights.sum() <= _TINY:
@@ -656,7 +677,8 @@ def path_slope_ms_per_trace(path_twt_ms: np.ndarray, smooth_traces: int) -> np.n
 
 
 def stratal_dip_along_path(search: EventSearch, path_twt_below_seafloor_ms: np.ndarray, dt_ms: float,
-                           trace_index: np.ndarray, half_traces: int, guard_ms: float, band_ms: float) -> np.ndarray:
+                           trace_index: np.ndarray, half_traces: int, guard_ms: float, band_ms: float,
+                           side: str = "both") -> np.ndarray:
     """Stratal dip relative to the seafloor around a picked path, from the search's mapped panel.
 
     The weighted median of the structure-tensor dip in bands between ``guard_ms`` and
@@ -677,6 +699,8 @@ def stratal_dip_along_path(search: EventSearch, path_twt_below_seafloor_ms: np.n
         Traces either side that the bands span.
     guard_ms, band_ms : float
         Reach of the bands.
+    side : str
+        ``both`` bands, or only the band ``above`` or ``below`` the path.
 
     Returns
     -------
@@ -697,7 +721,7 @@ def stratal_dip_along_path(search: EventSearch, path_twt_below_seafloor_ms: np.n
         sample = int(round(below[trace] / dt_ms))
         if 0 <= sample < n_below:
             dip_ms[trace] = dt_ms * band_median_dip(search.dip_samples_per_trace, search.dip_weight, int(trace),
-                                                    sample, half_traces, guard_samples, band_samples)
+                                                    sample, half_traces, guard_samples, band_samples, side)
     return dip_ms
 
 
