@@ -36,8 +36,11 @@ reservoir top that traps it. Each pick of kind ``contact`` is measured against t
 * A contact judged ``conformable`` (high) is following a bed, so its depth tilt and any breach of
   the closure are consequences of that, not further problems: those findings are capped at
   medium and carry ``explained_by: contact.conformable``.
-* ``outside-closure``: the nearest picked horizon above the contact is taken as the reservoir
-  top. Its crest is found by following the top uphill from its shallowest point over the
+* ``outside-closure``: the reservoir top is the horizon the rule ``reservoir_top`` names for
+  the contact (one name for every contact, ``CONTACT=TOP`` pairs separated by ``;``, or
+  ``nearest-above`` for the nearest picked horizon above). When it names none, the nearest
+  picked horizon above is measured against but the finding is at most low: any bed above a
+  contact is not its trap, so without a known top there is no closure to judge. Its crest is found by following the top uphill from its shallowest point over the
   contact's traces to the top of that structure. From the crest the top is
   followed to each side until it rises above the crest or the pick ends; the deepest depth met
   on a side is that side's spill, and the spill point is the shallower of the two sides (the
@@ -150,6 +153,7 @@ RULE_KEYS = {
     "polarity_high_fraction": (float, 0.5, 1.0),
     "closure_tolerance_m": (float, 0.0, 1000.0),
     "closure_min_traces": (int, 1, 1000000),
+    "reservoir_top": (str, None, None),
     "flat_min_coherence": (float, 0.0, 1.0),
     "flat_max_angle_deg": (float, 0.0, 10.0),
     "flat_min_length_m": (float, 0.0, 1000000.0),
@@ -527,9 +531,36 @@ def _spill(top_depth_m: np.ndarray, crest_index: int) -> tuple[int, int]:
     return sides[0], sides[1]
 
 
+def named_reservoir_top(contact_name: str, rule: str) -> str | None:
+    """The reservoir top the rule ``contacts.reservoir_top`` names for a contact.
+
+    ``""`` names none; ``"nearest-above"`` means the nearest picked horizon above (returned as
+    that word); ``"NAME"`` is the top of every contact; ``"CONTACT=TOP; CONTACT2=TOP2"`` names
+    one per contact (a contact not listed has none).
+    """
+    rule = rule.strip()
+    if not rule:
+        return None
+    if "=" not in rule:
+        return rule
+    for pair in rule.split(";"):
+        contact, _, top = pair.partition("=")
+        if contact.strip() == contact_name and top.strip():
+            return top.strip()
+    return None
+
+
 def _closure(section: Section, picks: Picks, geometry: _ContactGeometry, seafloor_twt_ms: np.ndarray,
              velocity: VelocityModel, settings: Mapping[str, Any]) -> list[Finding]:
-    top = _reservoir_top(picks, geometry)
+    # Without a known reservoir top there is no closure to judge: the nearest horizon above may be any bed.
+    # It is still measured against, as a low note that says so.
+    named = named_reservoir_top(geometry.contact.name, str(settings["reservoir_top"]))
+    top = None
+    if named is not None and named != "nearest-above":
+        top = next((h for h in picks.horizons if h.name == named and h.kind == "horizon"), None)
+    known = top is not None or named == "nearest-above"
+    if top is None:
+        top = _reservoir_top(picks, geometry)
     if top is None:
         return []
     top_twt_ms = np.asarray(top.twt_ms, dtype=float)
@@ -556,11 +587,14 @@ def _closure(section: Section, picks: Picks, geometry: _ContactGeometry, seafloo
     confidence = float(np.clip(max(outside_fraction, excess_m / (excess_m + tolerance) if excess_m > 0 else 0.0),
                                0.0, 1.0))
     severity = "high" if (below_spill.sum() + above_crest.sum()) >= settings["closure_min_traces"] else "medium"
+    if not known:
+        severity = "low"
     outside_indices = geometry.indices[outside]
     first, last = _numbers(section, int(outside_indices[0]), int(outside_indices[-1]))
     spill_twt_ms = float(top_twt_ms[spill_index])
     evidence = {
         "reservoir_top": top.name,
+        "reservoir_top_named": bool(known),
         "spill_point_twt_ms": spill_twt_ms,
         "spill_point_depth_m": spill_depth_m,
         "spill_point_trace": int(section.trace_numbers[spill_index]),
@@ -579,7 +613,8 @@ def _closure(section: Section, picks: Picks, geometry: _ContactGeometry, seafloo
     return [Finding(
         id="contact.outside-closure", detector=NAME, severity=severity, confidence=confidence,
         title=(f"{geometry.contact.name} runs outside the closure of {top.name} on {int(outside.sum())} traces "
-               f"({first}-{last}); spill point {spill_twt_ms:.0f} ms at trace {evidence['spill_point_trace']}"),
+               f"({first}-{last}); spill point {spill_twt_ms:.0f} ms at trace {evidence['spill_point_trace']}"
+               + ("" if known else f" (no reservoir top named: {top.name} is only the nearest picked horizon above)")),
         advice=ADVICE["outside-closure"], horizon=geometry.contact.name, traces=(first, last),
         twt_ms=(float(times.min()), float(times.max())), evidence=evidence,
     )]

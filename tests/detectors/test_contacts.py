@@ -169,14 +169,39 @@ def test_contact_below_the_spill_point_is_outside_the_closure():
     """A 40 m fold whose shallower end (trace index 299) spills at 1100 + 40 (1 - 2^-(149/60)^2) m,
     with the contact at 1170 m: below the spill point everywhere."""
     model = modelled("low-relief")
-    finding = only(contacts.detect(model.section, interpreted(model), load_rules()), "contact.outside-closure")
+    rules = load_rules()
+    rules["contacts"]["reservoir_top"] = "gwc=reservoir top"
+    finding = only(contacts.detect(model.section, interpreted(model), rules), "contact.outside-closure")
     assert finding.severity == "high"
+    assert finding.evidence["reservoir_top_named"] is True
     assert finding.evidence["spill_point_trace"] == 300
     assert finding.evidence["spill_point_twt_ms"] == pytest.approx(model.surface_twt_ms["reservoir"][299], abs=1e-9)
     spill_depth_m = 1100.0 + 40.0 * (1.0 - 2.0 ** (-(149.0 / 60.0) ** 2))
     assert finding.evidence["spill_point_depth_m"] == pytest.approx(spill_depth_m, abs=2.0)
     assert finding.evidence["crest_trace"] == CREST_TRACE + 1
     assert finding.evidence["traces_below_spill"] >= 250
+
+
+def test_closure_without_a_named_reservoir_top_is_only_a_note():
+    """The same breach with no reservoir top named in the rules: the nearest horizon above is measured
+    against, but the finding stays low (any bed above a contact need not be its trap)."""
+    model = modelled("low-relief")
+    finding = only(contacts.detect(model.section, interpreted(model), load_rules()), "contact.outside-closure")
+    assert finding.severity == "low"
+    assert finding.evidence["reservoir_top_named"] is False
+    assert finding.evidence["reservoir_top"] == "reservoir top"
+    rules = load_rules()
+    rules["contacts"]["reservoir_top"] = "nearest-above"
+    named = only(contacts.detect(model.section, interpreted(model), rules), "contact.outside-closure")
+    assert named.severity == "high" and named.evidence["reservoir_top_named"] is True
+
+
+@pytest.mark.parametrize("rule, expected", [
+    ("", None), ("Top Wren", "Top Wren"), ("nearest-above", "nearest-above"),
+    ("GWC=Top Wren; OWC = Top Heron", "Top Wren"), ("OWC=Top Heron", None),
+])
+def test_reservoir_top_rule_names_the_top(rule, expected):
+    assert contacts.named_reservoir_top("GWC", rule) == expected
 
 
 def test_tilted_contact_reports_the_hubbert_gradient():
@@ -246,7 +271,8 @@ def test_rule_keys_match_default_rules():
     assert set(rules[contacts.NAME]) == set(contacts.RULE_KEYS)
     for key, (kind, low, high) in contacts.RULE_KEYS.items():
         value = rules[contacts.NAME][key]
-        assert isinstance(value, kind) and low <= value <= high, key
+        assert isinstance(value, kind), key
+        assert (low is None or low <= value) and (high is None or value <= high), key
 
 
 # --- real data -------------------------------------------------------------------------------------
