@@ -14,7 +14,10 @@ seafloor-parallel stack with semblance of at least ``min_semblance`` and at leas
 ``min_relative_amplitude`` of the seafloor amplitude, and strata around it (between
 ``guard_ms`` and ``band_ms`` above and below, structure-tensor dip weighted by its coherence,
 dips steeper than ``max_stratal_dip_ms_per_trace`` left out as noise) that dip by at least
-``min_angle_to_strata_deg`` relative to the seafloor. Where the strata themselves parallel the
+``min_angle_to_strata_deg`` relative to the seafloor, and strata in the band above alone whose
+mean dip relative to the seafloor reaches ``above_angle_fraction`` of that angle (a boundary set
+after deposition cuts the strata above it; the base of a package draping the seafloor has parallel
+strata above it and is bedding). Where the strata themselves parallel the
 seafloor nothing cuts across them and nothing is reported. An event proven this way is then
 followed along the seafloor (hysteresis) through points with a seafloor-parallel semblance of at
 least ``extend_min_semblance`` and the amplitude above, so that it also covers stretches where the
@@ -182,6 +185,7 @@ RULE_KEYS = {
     "pick_phase_share": (float, 0.5, 1.0),
     "medium_pick_run_traces": (int, 1, 100000),
     "bedded_side_ratio": (float, 0.0, 1.0),
+    "above_angle_fraction": (float, 0.0, 1.0),
 }
 
 _EVENT_ADVICE = {
@@ -247,6 +251,7 @@ def _search_events(section: Section, seafloor: Seafloor, velocity: VelocityModel
         exclude_twt_below_seafloor_ms=multiples,
         exclude_half_width_ms=float(settings["multiple_guard_ms"]),
         extend_min_semblance=float(settings["extend_min_semblance"]),
+        above_dip_fraction=float(settings["above_angle_fraction"]),
     )
     guard_ms = float(settings["multiple_guard_ms"])
     kept: list[SeafloorParallelEvent] = []

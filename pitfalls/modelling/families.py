@@ -16,13 +16,14 @@ Families (``FAMILIES``):
 - ``clean``: 2-4 correct picks, some draping the seafloor; nothing planted.
 - ``hydrate-jump``: a hydrate stability base (placed from the drawn bottom-water temperature
   and gradient) cuts the dipping strata; a horizon follows a reflector, then jumps onto the
-  base (planted ``crosscut.pick-follows-boundary``); the base itself is a real event.
+  base where they meet, on a bed that leaves the base by a period or more before the line
+  ends (planted ``crosscut.pick-follows-boundary``); the base itself is a real event.
 - ``diagenetic``: a diagenetic front parallels the seafloor and cuts the strata (planted:
   the front, ``crosscut.diagenetic-like``); 2-3 correct picks cross it.
 - ``contact-top-picked`` and ``contact-top-unpicked``: a genuine gas-water contact, flat in
   depth, under an anticline, with and without its reservoir top picked; nothing planted.
-- ``contact-follows-bed``: a pick of kind ``contact`` follows a dipping bed on a flank
-  (planted ``contact.conformable``).
+- ``contact-follows-bed``: a pick of kind ``contact`` follows a bed dipping at least 3 deg on
+  a flank (planted ``contact.conformable``).
 
 A line's ``planted`` items must be found at medium or above; its ``real_events`` are true
 features of the line (a boundary, a contact) on which a section-level finding is a correct
@@ -297,11 +298,19 @@ def _hydrate_jump(rng: np.random.Generator, noise_seed: int, index: int) -> Fami
     dt_ms = parameters["dt_ms"]
     base_ms = modelled.surface_twt_ms["hydrate base"]
     base_below_ms = float(np.nanmedian(base_ms - modelled.seafloor_twt_ms))
-    candidates = [name for name in _choose_units(modelled, rng, 99, 40.0, base_below_ms + 200.0)]
-    crossing = [float(np.nanmin(np.abs(modelled.surface_twt_ms[name] - base_ms)[N_TRACES // 4: 3 * N_TRACES // 4]))
-                for name in candidates]
-    jump_unit = candidates[int(np.argmin(crossing))]
-    jump = _crossing_index(modelled.surface_twt_ms[jump_unit] - base_ms, rng)
+    # The pick jumps where its bed meets the base, and the bed must leave the base by at least one period
+    # before the line ends: a jump that never takes the pick a cycle off its bed changes nothing.
+    period_ms = 1000.0 / parameters["frequency_hz"]
+    best = None
+    for name in _choose_units(modelled, rng, 99, 40.0, base_below_ms + 200.0):
+        difference = modelled.surface_twt_ms[name] - base_ms
+        where = _crossing_index(difference, rng)
+        misfit = abs(float(difference[where]))
+        diverges = float(np.nanmax(np.abs(difference[where:]))) >= period_ms
+        key = (not diverges, misfit)
+        if best is None or key < best[0]:
+            best = (key, name, where)
+    _, jump_unit, jump = best
     path = modelled.surface_twt_ms[jump_unit].copy()
     path[jump:] = base_ms[jump:]
     others = _choose_units(modelled, rng, int(rng.integers(1, 3)), 60.0, 900.0, exclude=[jump_unit])
@@ -380,8 +389,15 @@ def _contact_follows_bed(rng: np.random.Generator, noise_seed: int, index: int) 
     offset = int(parameters["structure_half_width_traces"] / 3.0)
     start = crest + offset if side > 0 else crest - offset - length
     start = int(np.clip(start, 0, N_TRACES - length))
-    candidates = _choose_units(modelled, rng, 1, 200.0, 900.0, exclude=[reservoir])
-    bed = candidates[0]
+    # the bed must dip by at least 3 deg along the pick: a 'contact' on a bed flatter than that cannot be
+    # told from a fluid contact by its geometry
+    window = slice(start, start + length)
+    angles = {}
+    for name in _choose_units(modelled, rng, 99, 200.0, 900.0, exclude=[reservoir]):
+        slope_ms = float(np.median(np.abs(np.gradient(modelled.surface_twt_ms[name][window]))))
+        angles[name] = math.degrees(math.atan(slope_ms / 1000.0 * 2000.0 / 2.0 / TRACE_SPACING_M))
+    steep = [name for name, angle in angles.items() if angle >= 3.0]
+    bed = steep[0] if steep else max(angles, key=angles.get)
     path = np.full(N_TRACES, np.nan)
     path[start:start + length] = modelled.surface_twt_ms[bed][start:start + length]
     picks = _seafloor_pick(modelled, rng, dt_ms)

@@ -306,6 +306,7 @@ def find_seafloor_parallel_events(
     exclude_twt_below_seafloor_ms: np.ndarray | None = None,
     exclude_half_width_ms: float = 0.0,
     extend_min_semblance: float | None = None,
+    above_dip_fraction: float = 0.0,
 ) -> EventSearch:
     """Seafloor-parallel events by semblance along constant time below the seafloor (Neidell & Taner 1971).
 
@@ -334,11 +335,8 @@ def find_seafloor_parallel_events(
     min_relative_amplitude : float
         Least envelope of the seafloor-parallel stack relative to ``reference_amplitude``.
     min_rms_dip_samples_per_trace : float or ndarray of shape (n_below,)
-        Least RMS stratal dip relative to the seafloor around an event point, in the bands
-        above and below together and in the band above alone: a boundary set after deposition
-        cuts the strata above it too, while the base of a package draping the seafloor has
-        parallel strata above it (may vary with time below the seafloor, since the angle it
-        stands for depends on velocity).
+        Least RMS stratal dip relative to the seafloor around an event point (may vary with
+        time below the seafloor, since the angle it stands for depends on velocity).
     guard_ms, band_ms : float
         The stratal dip is measured between ``guard_ms`` and ``band_ms`` above and below each point.
     min_extent_traces, max_gap_traces : int
@@ -350,6 +348,11 @@ def find_seafloor_parallel_events(
         Times below the seafloor where events are not looked for (e.g. predicted multiples), per trace.
     exclude_half_width_ms : float
         Half width of those exclusion windows.
+    above_dip_fraction : float
+        The weighted mean stratal dip of the band above an event point, relative to the seafloor,
+        must reach this fraction of ``min_rms_dip_samples_per_trace``: a boundary set after
+        deposition cuts the strata above it too, while the base of a package draping the seafloor
+        has parallel strata above it. A mean, not an RMS, so that noise dips average out.
     extend_min_semblance : float, optional
         Hysteresis (Canny 1986): an event found with every test is followed along the
         seafloor through points that pass only the coherence, amplitude and exclusion tests
@@ -389,8 +392,8 @@ def find_seafloor_parallel_events(
     candidate &= rms_dip >= threshold[None, :]
     # A boundary set after deposition cuts the strata above it as well; the base of a package that drapes
     # the seafloor has parallel strata above it and dipping strata only below: it is bedding.
-    _, rms_above = banded_stratal_dip(stratal_dip, weight, window_traces, guard_samples, band_samples, side="above")
-    candidate &= rms_above >= threshold[None, :]
+    mean_above, _ = banded_stratal_dip(stratal_dip, weight, window_traces, guard_samples, band_samples, side="above")
+    candidate &= np.abs(mean_above) >= above_dip_fraction * threshold[None, :]
     trace_points, sample_points = np.nonzero(candidate)
     if trace_points.size:
         along_strata = dip_steered_semblance(flattened, trace_points, sample_points,
