@@ -7,6 +7,7 @@ scan: it is recorded as failed and the other detectors go on.
 """
 from __future__ import annotations
 
+import os
 import time
 from dataclasses import dataclass, replace
 from typing import Any, Callable, Mapping, Sequence
@@ -89,6 +90,11 @@ def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any],
 
     Parameters
     ----------
+    section_path : str, path-like, or an open source
+        A SEG-Y file, or a source already open with the reader's interface (``info``,
+        ``layout``, ``panels()``), such as :class:`pitfalls.io.array.ArraySource`.
+    pick_paths : sequence
+        Pick-file paths, or pick files already read (:class:`pitfalls.io.picks.PickFile`).
     progress : callable, optional
         Called as ``progress(done_panels, total_panels)`` after every panel.
 
@@ -98,9 +104,10 @@ def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any],
         For any problem with the section, the picks or the detector selection.
     """
     selected = select_detectors(only)
-    pick_files = [read_pick_file(path) for path in pick_paths]
-    with SeismicFile(section_path, rules["section"]["fallback_trace_spacing_m"], iline_byte, xline_byte,
-                     force_2d) as seismic:
+    pick_files = [path if isinstance(path, PickFile) else read_pick_file(path) for path in pick_paths]
+    opened = (SeismicFile(section_path, rules["section"]["fallback_trace_spacing_m"], iline_byte, xline_byte, force_2d)
+              if isinstance(section_path, (str, os.PathLike)) else section_path)
+    with opened as seismic:
         info = seismic.info
         placed = place_picks(pick_files, info, seismic.layout)
         seconds = {module.NAME: 0.0 for module in selected}
