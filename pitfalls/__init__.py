@@ -466,8 +466,9 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
     >>> report = pitfalls.scan(data, picks=picks, dt_ms=4.0)  # doctest: +SKIP
     """
     from pitfalls import engine
+    from pitfalls.io.picks import PickFile, read_pick_file
     active = load_rules(rules)
-    selected = _only(only)
+    detectors = engine.select_detectors(_only(only))
     if jobs is not None and (isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1):
         raise PitfallsInputError("jobs", "", f"is {jobs!r}", "give a whole number of worker processes, 1 or more")
     pick_inputs = _pick_inputs(picks)
@@ -492,6 +493,14 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
     else:
         raise PitfallsInputError("section", "", f"is a {type(section).__name__}",
                                  "give a SEG-Y file path, a numpy array with dt_ms, or an xarray DataArray")
-    result = engine.scan(source, pick_inputs, active.to_dict(), active.path, active.sha256, selected,
-                         iline_byte or 189, xline_byte or 193, force_2d, progress=progress)
-    return Report(result, active, None if isinstance(source, str) else source)
+    values = active.to_dict()
+    pick_files = [item if isinstance(item, PickFile) else read_pick_file(item) for item in pick_inputs]
+    if isinstance(source, str):
+        from pitfalls.io.segy import DEFAULT_INLINE_BYTE, DEFAULT_XLINE_BYTE, SeismicFile
+        with SeismicFile(source, values["section"]["fallback_trace_spacing_m"], iline_byte or DEFAULT_INLINE_BYTE,
+                         xline_byte or DEFAULT_XLINE_BYTE, force_2d) as seismic:
+            result = engine.scan_source(seismic, pick_files, values, active.path, active.sha256, detectors,
+                                        progress=progress)
+        return Report(result, active)
+    result = engine.scan_source(source, pick_files, values, active.path, active.sha256, detectors, progress=progress)
+    return Report(result, active, source)

@@ -6,8 +6,8 @@ the time of the first sample in ms, the trace numbers of a line (default 1..n) o
 and crossline numbers of a volume (default 1..n each), and optionally the traces' X/Y
 coordinates in metres or the trace spacing.
 
-The source offers what the SEG-Y reader offers (``info``, ``layout``, ``panels()``,
-``inline_panel()``), so the scan cannot tell a file from an array. Like a file's, the array is
+The source offers what the SEG-Y reader offers (``info``, ``layout``, ``n_panels``, ``blocks()``,
+``panels()``, ``inline_panel()``), so the scan cannot tell a file from an array. Like a file's, the array is
 never changed: panels are float32 copies.
 
 Checks, each a :class:`PitfallsInputError` naming the argument and what to fix: the shape, a
@@ -29,7 +29,7 @@ import numpy as np
 
 from pitfalls.errors import PitfallsInputError
 from pitfalls.io.segy import TraceLayout
-from pitfalls.model import Section, SectionInfo
+from pitfalls.model import Block, Section, SectionInfo
 
 ARRAY_NAME = "(in memory)"
 """How reports name an array given without a name."""
@@ -223,26 +223,43 @@ class ArraySource:
         return float(np.median(distance)), True
 
     # --- reading, as SeismicFile ----------------------------------------------------------
+    @property
+    def n_panels(self) -> int:
+        """Panels the section has: 1 for a line, one per inline for a volume."""
+        return 1 if self.layout.geometry == "2d" else len(self.layout.inline_numbers)
+
     def panels(self) -> Iterator[Section]:
         """One panel for a line; one per inline, in inline order, for a volume."""
+        for block in self.blocks(1):
+            yield from block.panels
+
+    def blocks(self, inlines_per_block: int = 16) -> Iterator[Block]:
+        """The section in blocks: a line is one block; a volume comes ``inlines_per_block`` inlines at a time."""
+        step = max(1, int(inlines_per_block))
+        for first in range(0, self.n_panels, step):
+            yield self.read_block(first, min(self.n_panels, first + step))
+
+    def read_block(self, first_panel: int, stop_panel: int) -> Block:
+        """Panels ``first_panel`` up to (not including) ``stop_panel`` as float32 copies, NaN where no trace is."""
         if self.layout.geometry == "2d":
             data = self._data.reshape(-1, self._data.shape[-1])
-            yield Section(data=np.array(data, dtype=np.float32), dt_ms=self._dt_ms, t0_ms=self._t0_ms,
-                          trace_spacing_m=self.info.trace_spacing_m, trace_numbers=self.layout.trace_numbers,
-                          name=self.path)
-            return
-        for inline_index in range(len(self.layout.inline_numbers)):
-            yield self.inline_panel(inline_index)
+            panel = Section(data=np.array(data, dtype=np.float32), dt_ms=self._dt_ms, t0_ms=self._t0_ms,
+                            trace_spacing_m=self.info.trace_spacing_m, trace_numbers=self.layout.trace_numbers,
+                            name=self.path)
+            return Block(0, (panel,))
+        data = np.array(self._data[first_panel:stop_panel], dtype=np.float32)
+        data[self.layout.grid[first_panel:stop_panel] < 0] = np.nan
+        panels = []
+        for offset, inline_index in enumerate(range(first_panel, stop_panel)):
+            inline_number = int(self.layout.inline_numbers[inline_index])
+            panels.append(Section(data=data[offset], dt_ms=self._dt_ms, t0_ms=self._t0_ms,
+                                  trace_spacing_m=self.info.trace_spacing_m, trace_numbers=self.layout.xline_numbers,
+                                  inline_number=inline_number, name=f"inline {inline_number}"))
+        return Block(first_panel, tuple(panels))
 
     def inline_panel(self, inline_index: int) -> Section:
         """One inline of a volume as a panel, NaN where a position has no trace."""
-        row = self.layout.grid[inline_index]
-        data = np.array(self._data[inline_index], dtype=np.float32)
-        data[row < 0] = np.nan
-        inline_number = int(self.layout.inline_numbers[inline_index])
-        return Section(data=data, dt_ms=self._dt_ms, t0_ms=self._t0_ms, trace_spacing_m=self.info.trace_spacing_m,
-                       trace_numbers=self.layout.xline_numbers, inline_number=inline_number,
-                       name=f"inline {inline_number}")
+        return self.read_block(inline_index, inline_index + 1).panels[0]
 
     def close(self) -> None:
         """Nothing to release; kept so the scan can treat every source alike."""
