@@ -89,7 +89,7 @@ CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
         "concordant_max_deg": (float, 0.0, 90.0),
         "flat_max_deg": (float, 0.0, 90.0),
         "toplap_max_ratio": (float, 0.0, 1.0),
-        "pick_window_periods": (float, 0.5, 20.0),
+        "pick_window_ms": (float, 8.0, 2000.0),
         "gradient_sigma_samples": (float, 0.3, 10.0),
         "window_sigma_samples": (float, 0.5, 30.0),
     },
