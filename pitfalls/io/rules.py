@@ -1,13 +1,15 @@
 """Load the rules: ``rules/default.yaml`` merged with an optional user file, every value checked.
 
-The rules file is YAML read with ``yaml.safe_load`` (``CONTRACT.md``, section "Rules file").
+The rules file is YAML read with the project's safe loader, :func:`pitfalls.io.yaml_safe.read_yaml`
+(``yaml.safe_load`` without anchors, aliases or duplicate keys, size-capped).
 Its top level holds sections: the core sections of :data:`CORE_KEYS` and one section per
 detector, named after the detector's ``NAME`` and described by its ``RULE_KEYS``. Each key
 is described by ``(type, minimum, maximum)``; a bound of None means unbounded.
 
 Checks, for the defaults and the user file alike:
 
-- the file exists, is UTF-8 text and YAML (the error names the line);
+- the file exists, is at most 256 KiB of UTF-8 text and YAML without anchors, aliases or
+  duplicate keys (the error names the line);
 - the top level and each section are mappings (an empty section is allowed in a user file);
 - every section and key is known (the error gives the dotted path and the closest valid key);
 - every value has the right type: a whole number is accepted where a float is expected,
@@ -32,8 +34,12 @@ from typing import Any, Mapping
 import yaml
 
 from pitfalls.errors import PitfallsInputError
+from pitfalls.io.yaml_safe import read_yaml
 
 KeySpec = tuple  # (type, minimum or None, maximum or None)
+
+MAX_RULES_BYTES = 256 * 1024
+"""A rules file larger than this is refused unread (the shipped defaults are about 20 KiB)."""
 
 CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
     "velocity": {
@@ -73,6 +79,27 @@ CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
         "min_confidence": (float, 0.0, 1.0),
         # Share of the shorter range two findings must share to be one event (1 = only nested ranges).
         "merge_min_overlap": (float, 0.0, 1.0),
+    },
+    "describe": {
+        # `pitfalls describe` (see pitfalls/describe.py); lengths in dominant periods.
+        "guard_periods": (float, 0.0, 5.0),
+        "termination_guard_periods": (float, 0.0, 10.0),
+        "termination_band_periods": (float, 0.25, 20.0),
+        "min_coherence": (float, 0.0, 1.0),
+        "point_fraction": (float, 0.0, 10.0),
+        "window_traces": (int, 5, 100000),
+        "reflection_free_max_rms": (float, 0.0, 10.0),
+        "chaotic_max_share": (float, 0.0, 1.0),
+        "divergent_min_fan_deg": (float, 0.0, 90.0),
+        "divergent_min_thickening": (float, 0.0, 10.0),
+        "parallel_max_spread_deg": (float, 0.0, 90.0),
+        "thickening_min_fraction": (float, 0.0, 10.0),
+        "concordant_max_deg": (float, 0.0, 90.0),
+        "flat_max_deg": (float, 0.0, 90.0),
+        "toplap_max_ratio": (float, 0.0, 1.0),
+        "pick_window_ms": (float, 8.0, 2000.0),
+        "gradient_sigma_samples": (float, 0.3, 10.0),
+        "window_sigma_samples": (float, 0.5, 30.0),
     },
 }
 
@@ -145,46 +172,8 @@ def _default_fix(is_default: bool, fix: str) -> str:
 
 
 def _read_yaml(path: str, is_default: bool) -> tuple[bytes, Any]:
-    try:
-        with open(path, "rb") as handle:
-            raw = handle.read()
-    except FileNotFoundError as err:
-        raise PitfallsInputError(path, "", "rules file not found",
-                                 fix=_default_fix(is_default, "check the path and the file name")) from err
-    except IsADirectoryError as err:
-        raise PitfallsInputError(path, "", "this is a folder, not a rules file",
-                                 fix=_default_fix(is_default, "give the path of the YAML file")) from err
-    except OSError as err:
-        raise PitfallsInputError(path, "", f"rules file cannot be read ({err.strerror or err})",
-                                 fix=_default_fix(is_default, "check that you may read the file")) from err
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as err:
-        line = raw[: err.start].count(b"\n") + 1
-        raise PitfallsInputError(path, f"line {line}", f"byte {err.start} is not UTF-8 text",
-                                 fix=_default_fix(is_default, "save the rules file as UTF-8 text")) from err
-    try:
-        document = yaml.safe_load(text)
-    except yaml.MarkedYAMLError as err:
-        mark = err.problem_mark or err.context_mark
-        where = f"line {mark.line + 1}" if mark is not None else ""
-        problem = " ".join(part for part in (err.context, err.problem) if part) or "not valid YAML"
-        raise PitfallsInputError(path, where, f"not valid YAML: {problem}",
-                                 fix=_default_fix(is_default, "check the indentation and the colons "
-                                                  "(key: value, two spaces under each section)")) from err
-    except yaml.YAMLError as err:
-        position = getattr(err, "position", None)
-        where = f"line {text[:position].count(chr(10)) + 1}" if isinstance(position, int) else ""
-        raise PitfallsInputError(path, where, "not valid YAML: the text holds a character YAML does not allow",
-                                 fix=_default_fix(is_default, "remove control characters from the file")) from err
-    except (ValueError, KeyError, TypeError, OverflowError) as err:
-        # PyYAML's constructors let built-in errors escape for bad explicit tags such as `!!int abc`.
-        raise PitfallsInputError(path, "", f"not valid YAML: a tagged value cannot be read ({err})",
-                                 fix=_default_fix(is_default, "remove the !! tags and write plain values")) from err
-    except RecursionError as err:
-        raise PitfallsInputError(path, "", "not valid rules: the YAML is nested too deeply",
-                                 fix=_default_fix(is_default, "write sections of key: value pairs")) from err
-    return raw, document
+    return read_yaml(path, what="rules file", max_bytes=MAX_RULES_BYTES,
+                     fix=lambda fix: _default_fix(is_default, fix))
 
 
 # --- checking ---------------------------------------------------------------------------
@@ -343,3 +332,55 @@ def _check_combinations(path: str, rules: Mapping[str, Mapping[str, Any]], is_de
     if weights and sum(ranking[name] for name in weights) <= 0.0:
         raise PitfallsInputError(path, "ranking", "all ranking weights are zero, so no finding could be scored",
                                  fix=_default_fix(is_default, "give at least one weight a value above 0"))
+
+
+def load_rules_mapping(overrides: Mapping[str, Any], detector_keys: Mapping[str, Mapping[str, KeySpec]],
+                       label: str = "rules mapping",
+                       defaults_path: str | pathlib.Path | None = None) -> tuple[dict, str, str]:
+    """Defaults merged with overrides given as a nested mapping instead of a file.
+
+    The overrides pass the same checks as a user rules file. A top-level key may also be a
+    dotted ``section.key``. ``label`` stands for the file name in messages and reports; the
+    checksum is the SHA-256 of the checked overrides written as YAML by :func:`render_rules`,
+    so a file holding that text gives the same checksum.
+
+    Raises
+    ------
+    PitfallsInputError
+        Naming ``label`` and the dotted key, as for a rules file.
+    """
+    rules, _, _ = load_rules(None, detector_keys, defaults_path)
+    schema: dict[str, Mapping[str, KeySpec]] = {**CORE_KEYS, **detector_keys}
+    if not isinstance(overrides, Mapping):
+        raise PitfallsInputError(label, "", f"is {_describe(overrides)}, not a mapping of rules sections",
+                                 fix="give a dict such as {'velocity': {'water_velocity_m_s': 1480.0}}, a rules "
+                                     "file path, or None for the defaults")
+    document: dict[str, Any] = {}
+    for name, values in overrides.items():
+        section, dot, key = str(name).partition(".") if isinstance(name, str) else (name, "", "")
+        if dot:
+            target = document.setdefault(section, {})
+            if not isinstance(target, dict):
+                raise PitfallsInputError(label, str(name), f"section '{section}' is given twice, once whole and "
+                                         "once as a dotted key", fix="give each section one way")
+            target[key] = _plain_value(values)
+        elif section in document:
+            raise PitfallsInputError(label, str(name), f"section '{section}' is given twice, once whole and "
+                                     "once as a dotted key", fix="give each section one way")
+        else:
+            document[section] = _plain_value(values)
+    checked = _checked(label, document, schema, is_default=False)
+    for section, values in checked.items():
+        rules[section].update(values)
+    _check_combinations(label, rules, is_default=False)
+    text = render_rules({section: values for section, values in checked.items()})
+    return rules, label, hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def _plain_value(value: Any) -> Any:
+    """Mappings as dicts and numpy scalars as Python numbers, so they are checked like YAML values."""
+    if isinstance(value, Mapping):
+        return {key: _plain_value(item) for key, item in value.items()}
+    if type(value).__module__ == "numpy" and hasattr(value, "item"):
+        return value.item()
+    return value
