@@ -10,10 +10,11 @@ The file is YAML::
         by: A. Reviewer
         date: 2026-12-02
 
-``fingerprint``, ``reason``, ``by`` and ``date`` are required; ``id``, ``horizon``, ``traces``,
+``fingerprint``, ``reason``, ``by`` and ``date`` are required (a date is kept as written); ``id``, ``horizon``, ``traces``,
 ``inlines``, ``xlines``, ``twt_ms`` and ``severity`` may be kept for the reader. Anything else,
 a missing or empty required value, or a fingerprint given twice stops the scan with the entry
-named (exit 2). The file is never changed.
+named (exit 2). The file is read with the project's safe YAML reader (no aliases, no duplicate keys) and never
+changed.
 """
 from __future__ import annotations
 
@@ -22,6 +23,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from pitfalls.errors import PitfallsInputError
+from pitfalls.io.yaml_safe import read_yaml
 
 REQUIRED = ("fingerprint", "reason", "by", "date")
 OPTIONAL = ("id", "horizon", "traces", "inlines", "xlines", "twt_ms", "severity")
@@ -35,7 +37,7 @@ class AcceptedEntry:
     reason: str
     by: str
     date: str
-    """ISO date as written (a YAML date is turned back into ``YYYY-MM-DD``)."""
+    """The date as written."""
     finding_id: str | None = None
     horizon: str | None = None
     position: int = 0
@@ -47,25 +49,8 @@ class AcceptedEntry:
 
 
 def _load_yaml(path: str) -> Any:
-    try:
-        from pitfalls.io.yaml_safe import load_yaml_file  # the project's one safe loader, where present
-    except ImportError:
-        load_yaml_file = None
-    if load_yaml_file is not None:
-        return load_yaml_file(path)
-    import yaml
-    try:
-        with open(path, encoding="utf-8") as handle:
-            return yaml.safe_load(handle)
-    except OSError as err:
-        raise PitfallsInputError(path, "", f"cannot be read ({err.strerror or err})",
-                                 "check the path given to --accepted") from err
-    except UnicodeDecodeError as err:
-        raise PitfallsInputError(path, "", "is not UTF-8 text", "save the accepted-findings file as UTF-8 YAML") from err
-    except yaml.YAMLError as err:
-        mark = getattr(err, "problem_mark", None)
-        where = f"line {mark.line + 1}" if mark is not None else ""
-        raise PitfallsInputError(path, where, "is not valid YAML", "fix the YAML syntax") from err
+    _, document = read_yaml(path, what="accepted-findings file")
+    return document
 
 
 def _text(value: Any) -> str | None:

@@ -40,3 +40,69 @@ def test_findings_their_detector_does_not_believe_are_dropped():
     kept = finding(confidence=0.05)
     ranked = rank_findings([finding(confidence=0.0), kept, finding(confidence=0.049)], INFO, RANKING)
     assert [f.confidence for f in ranked] == [0.05]
+
+
+# --- one finding per event ------------------------------------------------------------------------
+from pitfalls.report.rank import merge_events, with_fingerprints  # noqa: E402
+
+
+def event(id_, detector, severity, confidence, horizon=None, traces=(100, 200), twt_ms=(1000.0, 1100.0)):
+    return Finding(id=id_, detector=detector, severity=severity, confidence=confidence, title=f"{id_} title",
+                   advice=f"{id_} advice", horizon=horizon, traces=traces, twt_ms=twt_ms,
+                   evidence={"length_traces": traces[1] - traces[0] + 1})
+
+
+def test_two_detectors_on_one_event_give_one_finding_with_both_evidences():
+    """A diagenetic-like boundary and an unpicked flat event on the same traces and times are one event:
+    one finding, named by the specific id at the stronger class, carrying both detectors' evidence."""
+    boundary = event("crosscut.diagenetic-like", "crosscut", "low", 0.7, traces=(130, 594), twt_ms=(2088.0, 2232.0))
+    flat = event("contact.unpicked-flat-event", "contacts", "medium", 0.94, traces=(204, 416), twt_ms=(2100.0, 2160.0))
+    other = event("contact.unpicked-flat-event", "contacts", "low", 0.8, traces=(1, 98), twt_ms=(2064.0, 2148.0))
+    ranked = rank_findings([flat, boundary, other], INFO, RANKING)
+    assert len(ranked) == 2
+    joined = next(f for f in ranked if f.traces == (130, 594))
+    assert (joined.id, joined.severity, joined.detector) == ("contact.unpicked-flat-event", "medium", "contacts")
+    assert joined.detectors == ("contacts", "crosscut")
+    assert joined.evidence["merged_ids"] == ["crosscut.diagenetic-like"]
+    assert joined.evidence["crosscut.diagenetic-like.length_traces"] == 465
+    assert joined.confidence == pytest.approx(0.94)
+    assert joined.twt_ms == (2088.0, 2232.0)
+
+
+def test_at_equal_severity_the_specific_id_names_the_event():
+    boundary = event("crosscut.diagenetic-like", "crosscut", "medium", 0.7)
+    flat = event("contact.unpicked-flat-event", "contacts", "medium", 0.95)
+    (joined,) = merge_events([flat, boundary], 0.5)
+    assert joined.id == "crosscut.diagenetic-like" and joined.detectors == ("contacts", "crosscut")
+    assert joined.confidence == pytest.approx(0.95)
+
+
+@pytest.mark.parametrize("change", [
+    {"horizon": "H1"},                      # a pick finding is not the section's event
+    {"twt_ms": (1200.0, 1300.0)},           # other times
+    {"traces": (190, 400)},                 # 11 shared traces of the shorter 101: under half
+])
+def test_findings_apart_stay_apart(change):
+    first = event("crosscut.hydrate-like", "crosscut", "medium", 0.9)
+    second = event("contact.unpicked-flat-event", "contacts", "medium", 0.9, **{"traces": (100, 200), **change})
+    assert len(merge_events([first, second], 0.5)) == 2
+
+
+def test_single_findings_name_their_detector_and_keep_their_evidence():
+    (alone,) = merge_events([event("pick.cycle-skip", "pick_consistency", "high", 0.9, horizon="H1")], 0.5)
+    assert alone.detectors == ("pick_consistency",) and "merged_ids" not in alone.evidence
+
+
+def test_fingerprints_are_stable_across_runs_order_and_small_pick_edits():
+    """The fingerprint depends on id, horizon and the finding's place among its kind on that horizon,
+    not on the exact range, the confidence or the order the detectors returned them in."""
+    a = event("pick.cycle-skip", "pick_consistency", "high", 0.9, horizon="H1", traces=(10, 30))
+    b = event("pick.cycle-skip", "pick_consistency", "medium", 0.6, horizon="H1", traces=(200, 260))
+    c = event("multiple.seafloor", "multiples", "high", 0.9, horizon="H2", traces=(10, 300))
+    first = [f.fingerprint for f in with_fingerprints([a, b, c])]
+    edited_a = Finding(**{**vars(a), "traces": (11, 29)})
+    edited_b = Finding(**{**vars(b), "traces": (203, 258), "confidence": 0.55})
+    second = {f.id + str(f.traces): f.fingerprint for f in with_fingerprints([edited_b, c, edited_a])}
+    assert [second["pick.cycle-skip(11, 29)"], second["pick.cycle-skip(203, 258)"],
+            second["multiple.seafloor(10, 300)"]] == first
+    assert len(set(first)) == 3 and all(len(value) == 12 for value in first)
