@@ -62,6 +62,13 @@ class Context:
     dip_window_sigma_samples: float
 
     @property
+    def dominant_period_ms(self) -> float:
+        """One period of the dominant frequency, ms; 40 ms (25 Hz, a common marine dominant frequency,
+        common practice) for a panel whose frequency could not be measured."""
+        frequency_hz = self.dominant_frequency_hz
+        return 1000.0 / frequency_hz if np.isfinite(frequency_hz) and frequency_hz > 0 else 40.0
+
+    @property
     def polarity(self) -> int:
         """+1 / -1: the sign of the seafloor reflection in this data; 0 when unknown."""
         return self.seafloor.polarity

@@ -56,20 +56,28 @@ structure-tensor dip of the section (trusted where its linearity is at least
 measured around the event, because there the event (and, under a hydrate boundary, the
 free-gas base below it) would set the local dip. A pick lies on a boundary where it is within ``pick_on_event_ms`` of a
 reported event, or where its own path shows one: its time below the seafloor constant (angle to
-the seafloor within ``max_pick_angle_deg`` over ``pick_slope_traces``), the data at the pick of the
+the seafloor under ``min_angle_to_strata_deg`` over ``pick_slope_traces``: closer to the seafloor's
+direction than strata must be to count as cut by such an event), the data at the pick of the
 reverse polarity of the seafloor, the data aligned on the pick coherent (semblance at least
 ``min_semblance``), and not on a seafloor multiple or a water-layer peg-leg. This covers stretches
 where the strata run too nearly parallel to the boundary for the section-wide search.
 A run on a boundary is left alone where, on most of its traces, the strata above the pick
-(``guard_ms`` to ``band_ms``) run within ``max_pick_angle_deg`` of it and within
-``bedded_side_ratio`` of the angle the strata below make with it: the pick is then bedding, a
-drape over the seafloor or the base of a draping package, since a boundary set after deposition
-cuts the strata above it (below it a parallel free-gas base may mask the cut).
+(``guard_ms`` to ``band_ms``) run within ``above_angle_fraction`` x ``min_angle_to_strata_deg``
+of it: the pick is then bedding, a drape over the seafloor or the base of a draping package,
+since a boundary set after deposition cuts the strata above it (below it a parallel free-gas
+base may mask the cut). This does not clear a pick that came onto the run along a path cutting
+the seafloor-parallel direction (median angle to it over the ``window_traces`` / 2 traces before
+the run above ``max_pick_angle_deg``): that pick left the bed it was on, whatever lies above.
+Likewise a pick that is less parallel to the seafloor than the strata above it on most of the
+run rides no seafloor-parallel boundary: it is a bed between a draping package and the
+structure below.
 A run of at least ``min_pick_run_traces`` traces on a boundary is
 ``crosscut.pick-follows-boundary`` (high) when the pick departs from the strata by more than
 ``max_pick_angle_deg`` on most of it, or when the strata around the pick (weighted median dip
 between ``guard_ms`` and ``band_ms`` above and below) drift from it by at least
-``min_pick_divergence_ms`` over the run: a small angle kept over a long run still takes the pick
+``min_pick_divergence_periods`` dominant periods over the run (the strata of both bands, or of
+the band above alone, since below a hydrate base a parallel free-gas base can mask the cut): a
+small angle kept over a long run still takes the pick
 onto other cycles. The trace where the pick leaves the strata (``jump_trace``) is the bend in its
 time below the seafloor (two-phase linear regression near the run's start).
 Other runs where the pick departs by more than ``max_pick_angle_deg`` and the data aligned on it
@@ -181,10 +189,9 @@ RULE_KEYS = {
     "min_dip_linearity": (float, 0.0, 1.0),
     "extend_min_semblance": (float, 0.0, 1.0),
     "peg_leg_min_parent_ratio": (float, 0.0, 10.0),
-    "min_pick_divergence_ms": (float, 0.0, 500.0),
+    "min_pick_divergence_periods": (float, 0.0, 20.0),
     "pick_phase_share": (float, 0.5, 1.0),
     "medium_pick_run_traces": (int, 1, 100000),
-    "bedded_side_ratio": (float, 0.0, 1.0),
     "above_angle_fraction": (float, 0.0, 1.0),
 }
 
@@ -218,7 +225,8 @@ def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, A
     if horizons:
         field = context.dip
         for horizon in horizons:
-            findings.extend(_pick_findings(horizon, section, seafloor, search, field, velocity, settings))
+            findings.extend(_pick_findings(horizon, section, seafloor, search, field, velocity, settings,
+                                           context.dominant_period_ms))
     return findings
 
 
@@ -374,7 +382,7 @@ def _event_time_per_trace(search: EventSearch, seafloor: Seafloor, n_traces: int
 
 
 def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, search: EventSearch, field: Any,
-                   velocity: VelocityModel, settings: Mapping[str, Any]) -> list[Finding]:
+                   velocity: VelocityModel, settings: Mapping[str, Any], period_ms: float) -> list[Finding]:
     dt_ms = section.dt_ms
     n_traces = section.n_traces
     pick_twt = np.asarray(horizon.twt_ms, dtype=float)
@@ -419,8 +427,9 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
     # the seafloor (hydrate over free gas), is a boundary the pick may follow even where the panel-wide
     # search found no event (strata nearly parallel to it there).
     below_slope_ms = path_slope_ms_per_trace(below_ms, smooth)
+    # seafloor-parallel: closer to the seafloor's direction than strata must be to be cut by such an event
     parallel = np.abs(np.nan_to_num(dip_angle_deg(below_slope_ms, interval_velocity, section.trace_spacing_m),
-                                    nan=90.0)) <= limit
+                                    nan=90.0)) < float(settings["min_angle_to_strata_deg"])
     reversed_polarity = pick_sign * seafloor.polarity < 0
     on_path_boundary = parallel & reversed_polarity & coherent & ~near_seafloor
     guard_ms = float(settings["multiple_guard_ms"])
@@ -437,10 +446,11 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
                                        int(settings["window_traces"]) // 2, float(settings["guard_ms"]),
                                        float(settings["band_ms"]))
     divergence_ms = below_slope_ms - strata_ms  # pick slope minus stratal dip, both relative to the seafloor
-    # The strata on each side of the pick: where those above run with the pick, and clearly more closely
-    # than those below, the pick is bedding (a drape over the seafloor, or the base of a draping package
-    # over dipping strata). A boundary set after deposition cuts the strata above it; below it the strata
-    # may be cut too or masked by a parallel free-gas base, so the side below alone decides nothing.
+    # The strata on each side of the pick: where those above run with the pick (the complement of the cut
+    # the event search asks of the band above), the pick is bedding: a drape over the seafloor, or the
+    # base of a draping package over dipping strata. A boundary set after deposition cuts the strata
+    # above it; below it the strata may be cut too or masked by a parallel free-gas base, so the side
+    # below alone decides nothing.
     side_angle = {}
     for side in ("above", "below"):
         side_ms = stratal_dip_along_path(search, below_ms, dt_ms, np.flatnonzero(on_boundary),
@@ -448,20 +458,32 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
                                          float(settings["band_ms"]), side=side)
         side_angle[side] = np.abs(np.nan_to_num(dip_angle_deg(below_slope_ms - side_ms, interval_velocity,
                                                               section.trace_spacing_m), nan=90.0))
-    bedded = ((side_angle["above"] <= limit)
-              & (side_angle["above"] <= float(settings["bedded_side_ratio"]) * side_angle["below"]))
+        if side == "above":
+            divergence_above_ms = below_slope_ms - side_ms
+            above_rel_seafloor_ms = side_ms
+    bedded = side_angle["above"] < float(settings["above_angle_fraction"]) * float(settings["min_angle_to_strata_deg"])
+    # ... and a pick less parallel to the seafloor than the strata above it rides no seafloor-parallel
+    # boundary: it is a bed between a draping package and the structure below
+    bedded |= np.abs(np.nan_to_num(above_rel_seafloor_ms, nan=np.inf)) < np.abs(np.nan_to_num(below_slope_ms, nan=0.0))
 
     beyond = np.abs(np.nan_to_num(departure, nan=0.0)) > limit
     departs = beyond & (on_boundary | ~coherent)
     min_run = int(settings["min_pick_run_traces"])
     runs = true_runs(departs, max_gap=2, min_length=min_run)
-    min_divergence_ms = float(settings["min_pick_divergence_ms"])
+    min_divergence_ms = float(settings["min_pick_divergence_periods"]) * period_ms
     spans: list[tuple[int, int, bool]] = []  # (first, last, follows the boundary)
     for first, last in true_runs(on_boundary, max_gap=2, min_length=min_run):
-        cut_ms = float(np.nansum(divergence_ms[first:last + 1]))  # how far the strata drift from the pick over the run
+        # how far the strata drift from the pick: the largest excursion of the running sum, since over a
+        # fold crest the drift on one flank is undone on the other while the pick is long off its bed
+        cut_ms = max(_largest_excursion(divergence_ms[first:last + 1]),
+                     _largest_excursion(divergence_above_ms[first:last + 1]), key=abs)
         if np.mean(beyond[first:last + 1]) < 0.5 and abs(cut_ms) < min_divergence_ms:
             continue  # the pick crosses the event with the strata, or the strata parallel it
-        if np.mean(bedded[first:last + 1]) >= 0.5:
+        before = slice(max(first - int(settings["window_traces"]) // 2, 0), first)
+        approach = np.abs(dip_angle_deg(below_slope_ms[before], interval_velocity[before], section.trace_spacing_m))
+        approach = approach[np.isfinite(approach)]
+        turned_onto = approach.size >= 3 and float(np.median(approach)) > limit
+        if np.mean(bedded[first:last + 1]) >= 0.5 and not turned_onto:
             continue  # the strata above run with the pick over most of the run: it follows bedding
         for run_first, run_last in runs:  # join the ramp onto the event and any departures along it
             if run_first <= last + 3 and run_last >= first - 3:
@@ -506,7 +528,8 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
             evidence["jump_twt_ms"] = float(pick_twt[jump_index])
             evidence["share_on_section_event"] = float(np.mean(on_event[span]))
             evidence["share_reversed_polarity"] = float(np.mean(reversed_polarity[span]))
-            evidence["divergence_from_strata_ms"] = float(np.nansum(divergence_ms[span]))
+            evidence["divergence_from_strata_ms"] = max(_largest_excursion(divergence_ms[span]),
+                                                        _largest_excursion(divergence_above_ms[span]), key=abs)
             evidence["twt_below_seafloor_ms_median"] = float(np.nanmedian(below_ms[span]))
             findings.append(Finding(
                 id=f"{FAMILY}.pick-follows-boundary",
@@ -544,6 +567,12 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
                 evidence=evidence,
             ))
     return findings
+
+
+def _largest_excursion(slope_ms_per_trace: np.ndarray) -> float:
+    """The running sum of a slope difference (gaps count 0) at its largest distance from zero, signed."""
+    running = np.cumsum(np.nan_to_num(slope_ms_per_trace, nan=0.0))
+    return float(running[np.argmax(np.abs(running))]) if running.size else 0.0
 
 
 def _kink_index(below_ms: np.ndarray, first: int, last: int, half_traces: int) -> int:
