@@ -6,8 +6,13 @@ with the sign of the seafloor. It lies below the crest and above the spill point
 reservoir top that traps it. Each pick of kind ``contact`` is measured against these facts:
 
 * tilt: a robust (Theil-Sen) line through the picked times gives the time tilt (ms per trace,
-  ms per km); the same line through the depths from the velocity model (water down to the
-  seafloor, then the sediment function) gives the depth tilt in m per km.
+  ms per km). The depth tilt in m per km is measured between the contact's two ends (median
+  depth of the first and of the last 15 % of its traces, depths from the velocity model: water
+  down to the seafloor, then the sediment function): at its ends the fluid column above a
+  contact thins to nothing, so the pull-down of the slow gas above it, which the velocity
+  model does not know, vanishes there, while in between it sags a level contact into a bowl
+  that a fitted line reads as a tilt wherever the contact is not centred on its crest. The
+  Theil-Sen line through the depths is kept in the evidence as ``depth_tilt_fit_m_per_km``.
 * ``conformable``: the stratal dip is read from the structure-tensor dip field in windows
   above and below the contact (``stratal_exclude_ms`` to ``stratal_window_ms`` away, so the
   contact's own reflection is left out), kept where the coherence reaches ``min_coherence``.
@@ -129,6 +134,8 @@ KINDS = {
         "Look at the event on the section; check its polarity and whether it conforms to a closure.",
     ),
 }
+END_SHARE = 0.15
+"""Share of a contact's traces at each end whose median depth gives the end-to-end tilt."""
 RULE_KEYS = {
     "gradient_sigma_samples": (float, 0.5, 10.0),
     "window_sigma_samples": (float, 0.5, 20.0),
@@ -264,6 +271,23 @@ def _theil_sen(x: np.ndarray, y: np.ndarray) -> float:
     return float(theilslopes(y, x).slope)
 
 
+def _end_to_end_slope(distance_km: np.ndarray, depth_m: np.ndarray, fallback: float) -> float:
+    """Depth tilt between the contact's two ends (median of the first and last ``END_SHARE`` of its
+    traces, at least 3 each), m per km; ``fallback`` for a contact too short to have two ends.
+
+    At its ends the fluid column above a contact thins to nothing, so the velocity pull-down under
+    the column (the depth model knows no gas) vanishes there; in between it sags a level contact.
+    A tilt, hydrodynamic or from a picked bed, shows between the ends as well.
+    """
+    count = max(3, int(round(END_SHARE * distance_km.size)))
+    if distance_km.size < 2 * count:
+        return fallback
+    span_km = float(np.median(distance_km[-count:]) - np.median(distance_km[:count]))
+    if span_km <= 0:
+        return fallback
+    return float((np.median(depth_m[-count:]) - np.median(depth_m[:count])) / span_km)
+
+
 def _numbers(section: Section, first_index: int, last_index: int) -> tuple[int, int]:
     return int(section.trace_numbers[first_index]), int(section.trace_numbers[last_index])
 
@@ -283,7 +307,8 @@ class _ContactGeometry:
         self.extent_km = float(np.ptp(self.distance_km))
         self.time_tilt_ms_per_trace = _theil_sen(picked.astype(float), self.twt_ms)
         self.time_tilt_ms_per_km = _theil_sen(self.distance_km, self.twt_ms)
-        self.depth_tilt_m_per_km = _theil_sen(self.distance_km, self.depth_m)
+        self.depth_tilt_fit_m_per_km = _theil_sen(self.distance_km, self.depth_m)
+        self.depth_tilt_m_per_km = _end_to_end_slope(self.distance_km, self.depth_m, self.depth_tilt_fit_m_per_km)
         self.time_relief_ms = float(np.percentile(self.twt_ms, 95) - np.percentile(self.twt_ms, 5))
         self.interval_velocity_m_s = velocity.interval_velocity_m_s(
             velocity.depth_below_seafloor_m(self.twt_ms - self.seafloor_twt_ms))
@@ -384,6 +409,7 @@ def _tilt(section: Section, geometry: _ContactGeometry, settings: Mapping[str, A
         "time_tilt_ms_per_trace": geometry.time_tilt_ms_per_trace,
         "time_tilt_ms_per_km": geometry.time_tilt_ms_per_km,
         "depth_tilt_m_per_km": tilt_m_per_km,
+        "depth_tilt_fit_m_per_km": geometry.depth_tilt_fit_m_per_km,
         "depth_tilt_deg": float(tilt_angle_deg(tilt_m_per_km)),
         "depth_change_m": depth_change_m,
         "extent_km": geometry.extent_km,

@@ -24,7 +24,9 @@ least ``extend_min_semblance`` and the amplitude above, so that it also covers s
 strata happen to parallel it or a canyon bends it; angle and coherence gain in the finding are
 measured where it was seen to cut. Events within ``multiple_guard_ms`` of the first or second
 seafloor multiple, and water-layer peg-legs, are left out: they are seafloor-parallel for a
-different reason, and the multiples detector looks at them. A peg-leg repeats an event one
+different reason, and the multiples detector looks at them; so are events that lie on a picked
+fluid contact (within ``pick_on_event_ms`` on most of their traces), which the interpreter has
+named (a level contact under a level seafloor parallels it). A peg-leg repeats an event one
 seafloor time later with amplitude ``-2 R_sf A``; an event is one when it lies one seafloor time
 below a reported event, or when on most of its traces the seafloor-parallel stack one seafloor
 time higher holds an event of the opposite sign at least ``peg_leg_min_parent_ratio`` times as
@@ -219,7 +221,8 @@ def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, A
     seafloor = context.seafloor
     if seafloor.n_found < max(3, int(settings["window_traces"])) or seafloor.polarity == 0:
         return []
-    search = _search_events(section, seafloor, velocity, settings)
+    search = _without_picked_contacts(_search_events(section, seafloor, velocity, settings), seafloor,
+                                      picks, float(settings["pick_on_event_ms"]))
     findings = [_event_finding(event, section, seafloor, velocity, settings) for event in search.events]
     horizons = [horizon for horizon in picks.horizons if horizon.kind == "horizon" and horizon.n_points >= 2]
     if horizons:
@@ -270,6 +273,23 @@ def _search_events(section: Section, seafloor: Seafloor, velocity: VelocityModel
         share = water_layer_peg_leg_share(search.stack, search.stack_envelope, dt_ms, seafloor_twt, event,
                                           float(settings["peg_leg_min_parent_ratio"]), guard_ms)
         if share < 0.5:  # most of it sits one seafloor time below a stronger event of opposite sign
+            kept.append(event)
+    return dataclasses.replace(search, events=tuple(kept))
+
+
+def _without_picked_contacts(search: EventSearch, seafloor: Seafloor, picks: Picks, within_ms: float) -> EventSearch:
+    """Drop events that lie on a picked fluid contact over most of their traces: the interpreter has named
+    that event, and a level contact under a flat seafloor is seafloor-parallel for a reason of its own."""
+    contacts = [np.asarray(h.twt_ms, dtype=float) for h in picks.of_kind("contact")]
+    if not contacts:
+        return search
+    kept = []
+    for event in search.events:
+        event_twt = seafloor.twt_ms[event.trace_index] + event.twt_below_seafloor_ms
+        on_contact = np.zeros(event.trace_index.size, dtype=bool)
+        for contact in contacts:
+            on_contact |= np.abs(contact[event.trace_index] - event_twt) <= within_ms
+        if np.mean(on_contact) < 0.5:
             kept.append(event)
     return dataclasses.replace(search, events=tuple(kept))
 

@@ -410,7 +410,9 @@ def _contact_follows_bed(rng: np.random.Generator, noise_seed: int, index: int) 
     picks.append(("GWC", "contact", _jittered(rng, modelled.surface_twt_ms["GWC"], dt_ms)))
     contact_ms = modelled.surface_twt_ms["GWC"]
     present = np.flatnonzero(np.isfinite(contact_ms))
-    planted = (Planted(("contact.conformable",), "Flat spot", (start + 1, start + length)),)
+    # a 'contact' on a bed is named by its strata, and also by its tilt or a reversed polarity
+    planted = (Planted(("contact.conformable", "contact.tilted", "contact.polarity"), "Flat spot",
+                       (start + 1, start + length)),)
     event = Planted(("contact.unpicked-flat-event",), None, (int(present[0]) + 1, int(present[-1]) + 1),
                     (float(np.nanmin(modelled.surface_twt_ms[reservoir])) - 70.0, float(np.nanmax(contact_ms)) + 70.0))
     return _line("contact-follows-bed", index, parameters, modelled, picks, planted, (event,))
@@ -482,10 +484,10 @@ def judge(line: FamilyLine, findings: Sequence[Finding]) -> LineScore:
     """Recall and false alarms of ``findings`` on ``line`` (severity medium or above counts)."""
     strong = [f for f in findings if f.severity in ("high", "medium") and not _is_accepted(f)]
     found = sum(1 for item in line.planted if any(matches(f, item) for f in strong))
-    # A finding on a planted mistake or on a real event describes it, whatever its id: only findings on
-    # something else are false alarms.
-    explained = [*line.planted, *line.real_events]
-    false_alarms = tuple(f for f in strong if not any(matches(f, item, any_id=True) for item in explained))
+    # A finding on a planted mistake describes it, whatever its id; one on a real event only under the ids
+    # that name that event (a picked contact called a diagenetic boundary is a false alarm).
+    false_alarms = tuple(f for f in strong if not any(matches(f, item, any_id=True) for item in line.planted)
+                         and not any(matches(f, item) for item in line.real_events))
     return LineScore(found, len(line.planted), false_alarms)
 
 
