@@ -120,8 +120,8 @@ def _seafloor_m(parameters: Mapping[str, Any], rng: np.random.Generator) -> np.n
 def _units(parameters: Mapping[str, Any], seafloor: np.ndarray, rng: np.random.Generator, reach_below_m: float,
            reservoir_at_m: float | None = None) -> tuple[list[Unit], int | None]:
     """Units down to ``reach_below_m`` below the seafloor: the first ``drape_units`` parallel the seafloor,
-    deeper ones blend into a fold plus a regional dip. Velocities follow 1600 m/s + 0.8 /s x depth with an
-    alternating contrast, so reflections of both signs occur. A unit near ``reservoir_at_m`` below the
+    deeper ones blend into a fold plus a regional dip. Velocities follow 1600 m/s + 0.8 /s x depth below the
+    seafloor on every trace (compaction) with an alternating contrast, so reflections of both signs occur. A unit near ``reservoir_at_m`` below the
     seafloor becomes a fast sand (the reservoir); its index is returned."""
     mean_seafloor = float(np.mean(seafloor))
     fold = shapes.anticline(N_TRACES, parameters["crest_trace"], 0.0, parameters["structure_relief_m"],
@@ -137,9 +137,12 @@ def _units(parameters: Mapping[str, Any], seafloor: np.ndarray, rng: np.random.G
         weight = float(np.clip((index - parameters["drape_units"]) / 3.0, 0.0, 1.0))
         top = (1.0 - weight) * (seafloor + below_m) + weight * (mean_seafloor + below_m + structural)
         contrast = float(rng.uniform(60.0, 160.0)) * (1.0 if index % 2 else -0.6)
-        velocity = 1600.0 + 0.8 * (below_m + 30.0) + contrast
+        # compaction: velocity follows the depth below the seafloor trace by trace (the default rules'
+        # 1600 m/s + 0.8 /s x depth), with the unit's contrast on top
+        burial_m = np.maximum(top - seafloor, 0.0) + 30.0
+        velocity = np.maximum(1600.0 + 0.8 * burial_m + contrast, 1550.0)
         if reservoir_at_m is not None and reservoir_index is None and below_m >= reservoir_at_m:
-            velocity = units[-1].velocity_m_s + 350.0  # a clean sand, faster than the shale above
+            velocity = np.asarray(units[-1].velocity_m_s) + 350.0  # a clean sand, faster than the shale above
             reservoir_index = index
         units.append(Unit(f"U{index:02d}", top, velocity))
     return units, reservoir_index
