@@ -63,9 +63,12 @@ reservoir top that traps it. Each pick of kind ``contact`` is measured against t
   (flat bedding never qualifies). Patches cutting the strata on traces spanning at least
   ``flat_min_length_m`` are reported, longest first, at most ``flat_max_findings``: low, or medium
   when their RMS amplitude is at least ``flat_bright_ratio`` times that of the surrounding window.
-  Confidence = median coherence x min(1, length / (2 flat_min_length_m)). The evidence says
-  whether the patch sits within ``stratal_exclude_ms`` of n times the seafloor time (n >= 2: a
-  seafloor multiple) and of which order.
+  Confidence = median coherence x min(1, length / (2 flat_min_length_m)). The event's path is
+  the median cutting sample of the patch on each trace; a patch whose path changes by more than
+  ``flat_max_relief_periods`` dominant periods (5 to 95 %) is several events joined through
+  noise and is not reported, and the time window is the path's 5-95 % range widened by half a
+  period. A patch within ``multiple_tolerance_periods`` periods of n times the seafloor time
+  (n >= 2) lies on a seafloor multiple: the title names it, and it stays low.
 
 Depth here is only as good as the rules' velocity model: a velocity anomaly it does not know
 (a gas column, a channel fill) shows up as a tilt.
@@ -167,6 +170,8 @@ RULE_KEYS = {
     "flat_min_length_m": (float, 0.0, 1000000.0),
     "flat_bright_ratio": (float, 0.0, 100.0),
     "flat_max_findings": (int, 0, 1000),
+    "flat_max_relief_periods": (float, 0.0, 100.0),
+    "multiple_tolerance_periods": (float, 0.0, 10.0),
 }
 
 ADVICE = {
@@ -234,7 +239,7 @@ def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, A
         findings.extend(consequences)
         findings.extend(_polarity(section, geometry, seafloor.polarity, settings))
     findings.extend(_unpicked_flat_events(section, picks, field, interval_velocity_m_s, seafloor_twt_ms,
-                                          velocity, settings))
+                                          velocity, settings, context.dominant_period_ms))
     return findings
 
 
@@ -658,7 +663,7 @@ def _window_mean(values: np.ndarray, weights: np.ndarray, start: int, stop: int)
 
 def _unpicked_flat_events(section: Section, picks: Picks, field: DipField, interval_velocity_m_s: np.ndarray,
                           seafloor_twt_ms: np.ndarray, velocity: VelocityModel,
-                          settings: Mapping[str, Any]) -> list[Finding]:
+                          settings: Mapping[str, Any], period_ms: float) -> list[Finding]:
     if int(settings["flat_max_findings"]) == 0:
         return []
     dt_ms, spacing_m = section.dt_ms, section.trace_spacing_m
@@ -705,9 +710,17 @@ def _unpicked_flat_events(section: Section, picks: Picks, field: DipField, inter
     chosen = patches[long_enough][order][:int(settings["flat_max_findings"])]
     data = np.nan_to_num(section.data, nan=0.0)
     findings = []
+    max_relief_ms = float(settings["flat_max_relief_periods"]) * period_ms
     for patch in chosen:
         here = patch_of == patch
         trace_index, sample_index = trace_of[here], sample_of[here]
+        # the event's path: the median cutting sample on each trace. A patch whose path climbs or drops by
+        # more than flat_max_relief_periods is several events joined through noise, not one flat event.
+        path_traces, inverse = np.unique(trace_index, return_inverse=True)
+        path_ms = np.array([np.median(section.twt_ms[sample_index[inverse == k]]) for k in range(path_traces.size)])
+        relief_ms = float(np.percentile(path_ms, 95) - np.percentile(path_ms, 5))
+        if relief_ms > max_relief_ms:
+            continue
         n_traces = int(np.unique(trace_index).size)
         length_m = n_traces * spacing_m
         coherence = float(np.median(field.coherence[trace_index, sample_index]))
@@ -717,14 +730,14 @@ def _unpicked_flat_events(section: Section, picks: Picks, field: DipField, inter
         high = min(section.n_samples, int(sample_index.max()) + reach + 1)
         window_rms = float(np.sqrt(np.mean(data[first_index:last_index + 1, low:high] ** 2)))
         amplitude_ratio = event_rms / window_rms if window_rms > 0 else 0.0
-        twt_ms = section.twt_ms[sample_index]
+        twt_ms = path_ms
         median_twt = float(np.median(twt_ms))
-        seafloor_here_ms = seafloor_twt_ms[trace_index]
+        seafloor_here_ms = seafloor_twt_ms[path_traces]
         ratio = twt_ms[seafloor_here_ms > 0] / seafloor_here_ms[seafloor_here_ms > 0]
         order = int(np.rint(np.median(ratio))) if ratio.size else 0
         # order-n surface multiple of the seafloor arrives at n x t_sf (REFERENCES item 1)
         multiple_misfit_ms = float(np.median(np.abs(twt_ms - order * seafloor_here_ms))) if order >= 2 else np.inf
-        on_multiple = multiple_misfit_ms <= settings["stratal_exclude_ms"]
+        on_multiple = multiple_misfit_ms <= float(settings["multiple_tolerance_periods"]) * period_ms
         evidence = {
             "twt_ms_median": median_twt,
             "length_m": float(length_m),
@@ -738,16 +751,21 @@ def _unpicked_flat_events(section: Section, picks: Picks, field: DipField, inter
             "amplitude_ratio": amplitude_ratio,
             "near_seafloor_multiple": bool(on_multiple),
             "seafloor_multiple_order": order if on_multiple else 0,
+            "path_relief_ms": relief_ms,
         }
-        severity = "medium" if amplitude_ratio >= settings["flat_bright_ratio"] else "low"
+        # a flat stretch of a seafloor multiple is the multiple, named as such: a note, not a candidate contact
+        severity = "medium" if amplitude_ratio >= settings["flat_bright_ratio"] and not on_multiple else "low"
         scale = min(1.0, length_m / (2.0 * min_length_m)) if min_length_m > 0 else 1.0
         first, last = _numbers(section, first_index, last_index)
+        half_period_ms = 0.5 * period_ms
         findings.append(Finding(
             id="contact.unpicked-flat-event", detector=NAME, severity=severity,
             confidence=float(np.clip(coherence * scale, 0.0, 1.0)),
             title=(f"An unpicked flat event near {median_twt:.0f} ms cuts dipping strata on {n_traces} traces "
-                   f"between {first} and {last} ({length_m:.0f} m)"),
+                   f"between {first} and {last} ({length_m:.0f} m)"
+                   + (f": it lies on the order-{order} seafloor multiple" if on_multiple else "")),
             advice=ADVICE["unpicked-flat-event"], horizon=None, traces=(first, last),
-            twt_ms=(float(twt_ms.min()), float(twt_ms.max())), evidence=evidence,
+            twt_ms=(float(np.percentile(twt_ms, 5)) - half_period_ms, float(np.percentile(twt_ms, 95)) + half_period_ms),
+            evidence=evidence,
         ))
     return findings

@@ -233,6 +233,20 @@ def test_unpicked_flat_spot_is_found():
     assert finding.twt_ms[0] <= np.nanmax(contact_twt_ms) and finding.twt_ms[1] >= np.nanmin(contact_twt_ms)
     assert finding.severity in ("low", "medium")
     assert finding.evidence["near_seafloor_multiple"] is False
+    # the window points at the event: its path's range widened by half a period either side
+    period_ms = 1000.0 / 25.0
+    assert finding.twt_ms[1] - finding.twt_ms[0] <= finding.evidence["path_relief_ms"] + period_ms + 1e-9
+    assert finding.twt_ms[1] - finding.twt_ms[0] <= 3.0 * period_ms
+
+
+def test_flat_patch_joining_several_events_is_not_one_flat_event():
+    """The same contact with flat_max_relief_periods at zero: the flat patch's path varies by a few ms
+    along the fold, so it is more relief than allowed, and nothing is reported (the rule is live)."""
+    model = modelled("clean")
+    rules = load_rules()
+    rules["contacts"]["flat_max_relief_periods"] = 0.0
+    findings = run_detector(contacts, model.section, Picks(), rules)
+    assert "contact.unpicked-flat-event" not in ids(findings)
 
 
 def test_flat_seafloor_multiple_is_named_as_such():
@@ -244,6 +258,11 @@ def test_flat_seafloor_multiple_is_named_as_such():
     assert finding.evidence["twt_ms_median"] == pytest.approx(1600.0, abs=16.0)
     assert finding.evidence["near_seafloor_multiple"] is True
     assert finding.evidence["seafloor_multiple_order"] == 2
+    # a flat stretch of a multiple is named as the multiple and stays a note, however bright
+    rules = load_rules()
+    rules["contacts"]["flat_bright_ratio"] = 0.0
+    bright = only(run_detector(contacts, model.section, Picks(), rules), "contact.unpicked-flat-event")
+    assert bright.severity == "low" and "seafloor multiple" in bright.title
 
 
 # --- contract -------------------------------------------------------------------------------------
