@@ -173,6 +173,43 @@ def test_horizon_that_hops_onto_the_multiple(line):
     assert findings[0].evidence["fraction_of_pick"] == pytest.approx(50 / N_TRACES, abs=0.05)
 
 
+# --- the contradiction rules, each switched on by one change to a pick on the multiple ------------
+
+def multiple_findings(section, twt_ms):
+    picks = Picks((Horizon("M1", "horizon", twt_ms),))
+    return [f for f in run_detector(multiples, section, picks, load_rules()) if f.horizon == "M1"]
+
+
+def test_reversed_polarity_pick_on_the_multiple_is_capped_at_low(line):
+    """The first multiple with its own sign turned over (data within 30 ms of 2 t_sf multiplied by -1): it
+    now has the seafloor's polarity, against the -R_sf sign a seafloor multiple must have (REFERENCES
+    item 1), so the polarity contradiction caps the finding at low."""
+    data = line.section.data.copy()
+    twt = line.section.twt_ms[None, :]
+    near = np.abs(twt - 2 * line.seafloor_twt_ms[:, None]) <= 30.0
+    data[near] *= -1.0
+    reversed_line = Section(data=data, dt_ms=line.section.dt_ms, t0_ms=0.0, trace_spacing_m=12.5,
+                            trace_numbers=line.section.trace_numbers, name="multiple turned over")
+    findings = [f for f in multiple_findings(reversed_line, 2 * line.seafloor_twt_ms) if f.id == "multiple.seafloor"]
+    assert findings, "the pick still matches the multiple's time"
+    assert all("polarity" in f.evidence["contradictions"] and f.severity == "low" for f in findings)
+    assert all(f.evidence["polarity_agreement_fraction"] < 0.5 for f in findings)
+
+
+@pytest.mark.parametrize("direction", [1.0, -1.0])
+def test_primary_drifting_across_the_multiple_either_way_is_capped_at_low(line, direction):
+    """A path that crosses the multiple's prediction, from 9 ms above it to 9 ms below (or the other way):
+    inside the 10 ms tolerance on every trace, but drifting 18 ms over the run, more than
+    max_drift_tolerances (1) tolerances: a crossing, not a multiple, whichever way it drifts."""
+    ramp = direction * np.linspace(-9.0, 9.0, N_TRACES)
+    findings = [f for f in multiple_findings(line.section, 2 * line.seafloor_twt_ms + ramp)
+                if f.id == "multiple.seafloor"]
+    assert findings
+    assert all("drift" in f.evidence["contradictions"] and f.severity == "low" for f in findings)
+    assert all(abs(f.evidence["drift_ms"]) == pytest.approx(18.0, abs=3.0) for f in findings)
+    assert all(np.sign(f.evidence["drift_ms"]) == direction for f in findings)
+
+
 def test_interbed_prediction_only_with_its_switch(line):
     """2 t_U3 - t_U2 (item 1) is reported as multiple.interbed only with the rule switched on."""
     interbed = 2 * line.surface_twt_ms["U3"] - line.surface_twt_ms["U2"]
