@@ -207,6 +207,47 @@ def test_beds_parallel_to_the_seafloor_give_nothing(rules, overprint):
     assert run_detector(crosscut, model.section, Picks(), rules) == []
 
 
+def draping_model() -> ModelledSection:
+    """Five beds that drape the seafloor (45 m apart) over beds that dip against it: the base of the
+    drape package is seafloor-parallel, has parallel strata above it and dipping strata below."""
+    key = ("drape",)
+    if key not in _MODELS:
+        seafloor_m = dipping(N_TRACES, 1000.0, 0.6)
+        units = []
+        for number in range(14):
+            top_m = seafloor_m + 45.0 * number if number <= 4 else dipping(N_TRACES, 1000.0 + 45.0 * number, -0.8)
+            units.append(Unit(f"bed{number}", top_m, 1750.0 + (60.0 if number % 2 else -40.0) + 8.0 * number))
+        _MODELS[key] = model_section(EarthModel(1500.0, seafloor_m, tuple(units)), dt_ms=DT_MS, n_samples=800,
+                                     snr=4.0, seed=11, name="drape model")
+    return _MODELS[key]
+
+
+def test_pick_on_a_draping_bed_is_bedding_not_a_boundary(rules):
+    """bed4 (a soft bed: reversed against the seafloor) is the base of the drape package, parallel to the
+    seafloor, with parallel strata above and dipping strata below. Picked correctly, it is no boundary
+    and no section event (the strata above it do not dip across it: above_angle_fraction); with that
+    rule switched off both come back, so the test guards the rule."""
+    model = draping_model()
+    assert np.nanmedian(model.reflection_coefficient["bed4"]) < 0
+    picks = Picks((Horizon("Drape base", "horizon", model.surface_twt_ms["bed4"]),
+                   Horizon("Drape", "horizon", model.surface_twt_ms["bed2"])))
+    findings = run_detector(crosscut, model.section, picks, rules)
+    assert [f for f in findings if f.severity in ("high", "medium")] == []
+    switched_off = {**rules, "crosscut": {**rules["crosscut"], "above_angle_fraction": 0.0}}
+    without_rule = run_detector(crosscut, model.section, picks, switched_off)
+    assert {"crosscut.pick-follows-boundary"} & set(ids(f for f in without_rule if f.horizon == "Drape base")) \
+        or set(ids(without_rule)) & EVENT_IDS
+
+
+def test_event_on_a_picked_contact_is_left_to_the_contact(rules):
+    """The diagenetic front picked as a contact (kind contact): the interpreter has named the event, so it
+    is not reported as a diagenetic-like boundary; unpicked, it is."""
+    model = modelled("diagenetic")
+    assert "crosscut.diagenetic-like" in ids(run_detector(crosscut, model.section, Picks(), rules))
+    named = Picks((Horizon("Front", "contact", model.surface_twt_ms["opal front"]),))
+    assert "crosscut.diagenetic-like" not in ids(run_detector(crosscut, model.section, named, rules))
+
+
 def test_dipping_beds_alone_give_nothing(rules):
     """Dipping beds with their seafloor multiple and no overprint: nothing."""
     assert run_detector(crosscut, modelled(None).section, Picks(), rules) == []
