@@ -23,7 +23,6 @@ from pitfalls.modelling.earth import EarthModel, Overprint, Unit
 from pitfalls.modelling.section import ModelledSection, model_section
 from pitfalls.modelling.shapes import dipping
 from pitfalls.physics.crosscut import predicted_stability_base_twt_ms, water_layer_peg_leg_share
-from pitfalls.physics.hydrate import stability_base_depth_m
 from pitfalls.physics.seafloor import find_seafloor
 from pitfalls.physics.velocity import VelocityModel
 
@@ -50,6 +49,17 @@ def rules() -> dict:
     return rules
 
 
+# Published base of the hydrate stability zone at 4 C and 40 C/km for water depths of 600, 800, 1000,
+# 1500 and 2000 m (REFERENCES item 4c check cases, Dickens & Quinby-Hunt 1994 boundary): the models
+# place their hydrate base by linear interpolation between these, not with the function under test.
+CHECK_WATER_DEPTH_M = (600.0, 800.0, 1000.0, 1500.0, 2000.0)
+CHECK_BASE_BELOW_SEAFLOOR_M = (126.9, 206.6, 263.4, 362.8, 433.0)
+
+
+def published_base_below_seafloor_m(water_depth_m: np.ndarray) -> np.ndarray:
+    return np.interp(water_depth_m, CHECK_WATER_DEPTH_M, CHECK_BASE_BELOW_SEAFLOOR_M)
+
+
 def earth(overprint: str | None, beds_parallel: bool = False) -> EarthModel:
     seafloor_m = dipping(N_TRACES, 1000.0, 0.6)
     units = []
@@ -58,7 +68,7 @@ def earth(overprint: str | None, beds_parallel: bool = False) -> EarthModel:
         units.append(Unit(f"bed{number}", top_m, 1750.0 + (60.0 if number % 2 else -40.0) + 8.0 * number))
     overprints: tuple[Overprint, ...] = ()
     if overprint == "hydrate":
-        base_m = seafloor_m + np.array([stability_base_depth_m(depth, 4.0, 40.0) for depth in seafloor_m])
+        base_m = seafloor_m + published_base_below_seafloor_m(seafloor_m)
         overprints = (Overprint("hydrate base", "hydrate", base_m, 150.0, thickness_m=40.0, gas_velocity_drop_m_s=350.0),)
     elif overprint == "diagenetic":
         overprints = (Overprint("opal front", "diagenetic", seafloor_m + 300.0, 350.0),)
@@ -294,7 +304,7 @@ def shallow_water_hydrate_model() -> ModelledSection:
         seafloor_m = dipping(N_TRACES, 650.0, 0.6)
         units = tuple(Unit(f"bed{number}", dipping(N_TRACES, 700.0 + 45.0 * number, -0.8),
                            1750.0 + (60.0 if number % 2 else -40.0) + 8.0 * number) for number in range(30))
-        base_m = seafloor_m + np.array([stability_base_depth_m(depth, 4.0, 40.0) for depth in seafloor_m])
+        base_m = seafloor_m + published_base_below_seafloor_m(seafloor_m)
         overprint = Overprint("hydrate base", "hydrate", base_m, 150.0, thickness_m=40.0, gas_velocity_drop_m_s=350.0)
         _MODELS[key] = model_section(EarthModel(1500.0, seafloor_m, units, (overprint,)), dt_ms=DT_MS, n_samples=800,
                                      snr=4.0, seed=11, name="shallow hydrate model")

@@ -168,6 +168,23 @@ def test_peak_amplitude_on_sample_and_between_samples():
     assert amplitude[1] == pytest.approx(-1.0, rel=0.01) and peak_ms[1] == pytest.approx(201.0, abs=0.2)
 
 
+@pytest.mark.parametrize("snap_ms", [4.0, 6.0, 10.0])
+def test_peak_amplitude_window_reaches_exactly_snap_ms(snap_ms):
+    """Two modelled 40 Hz Ricker reflections (REFERENCES item 9 wavelet), a weak one at the picked 200 ms
+    and a reversed one three times as strong 'snap_ms + 2 dt' later, with a third lobe 'snap_ms' after
+    the pick on a second trace: the window must hold the sample snap_ms away and not the one beyond,
+    so the first trace never reads the strong trough and the second does."""
+    dt_ms = 2.0
+    t_ms = np.arange(0, 400, dt_ms)
+    outside = 0.3 * ricker(40.0, t_ms - 200.0) - ricker(40.0, t_ms - (200.0 + snap_ms + 2 * dt_ms))
+    inside = 0.3 * ricker(40.0, t_ms - 200.0) - ricker(40.0, t_ms - (200.0 + snap_ms))
+    amplitude, peak_ms = peak_amplitude(np.vstack([outside, inside]), 0.0, dt_ms, np.array([200.0, 200.0]), snap_ms)
+    # the strong trough two samples beyond the window is never taken (the weak peak, or a side lobe of the
+    # trough, is: positive either way); the same trough at the window's edge is
+    assert amplitude[0] > 0 and abs(peak_ms[0] - 200.0) <= snap_ms
+    assert peak_ms[1] == pytest.approx(200.0 + snap_ms, abs=dt_ms / 2) and amplitude[1] < -0.9
+
+
 def test_time_dip_ratio_ignores_a_few_bad_picks():
     """Defining property of the Theil-Sen slope: with 10 % wild picks the slope of 2 t_sf on t_sf is 2."""
     rng = np.random.default_rng(5)
