@@ -22,10 +22,10 @@ seafloor nothing cuts across them and nothing is reported. An event proven this 
 followed along the seafloor (hysteresis) through points with a seafloor-parallel semblance of at
 least ``extend_min_semblance`` and the amplitude above, so that it also covers stretches where the
 strata happen to parallel it or a canyon bends it; angle and coherence gain in the finding are
-measured where it was seen to cut. Events within ``multiple_guard_ms`` of the first or second
+measured where it was seen to cut. Events within ``multiple_guard_periods`` dominant periods of the first or second
 seafloor multiple, and water-layer peg-legs, are left out: they are seafloor-parallel for a
 different reason, and the multiples detector looks at them; so are events that lie on a picked
-fluid contact (within ``pick_on_event_ms`` on most of their traces), which the interpreter has
+fluid contact (within ``pick_on_event_periods`` periods on most of their traces), which the interpreter has
 named (a level contact under a level seafloor parallels it). A peg-leg repeats an event one
 seafloor time later with amplitude ``-2 R_sf A``; an event is one when it lies one seafloor time
 below a reported event, or when on most of its traces the seafloor-parallel stack one seafloor
@@ -56,7 +56,7 @@ Picks. For each picked horizon (kind ``horizon``) the pick slope, averaged over
 structure-tensor dip of the section (trusted where its linearity is at least
 ``min_dip_linearity``), or, within ``band_ms`` of a seafloor-parallel event, the stratal dip
 measured around the event, because there the event (and, under a hydrate boundary, the
-free-gas base below it) would set the local dip. A pick lies on a boundary where it is within ``pick_on_event_ms`` of a
+free-gas base below it) would set the local dip. A pick lies on a boundary where it is within ``pick_on_event_periods`` periods of a
 reported event, or where its own path shows one: its time below the seafloor constant (angle to
 the seafloor under ``min_angle_to_strata_deg`` over ``pick_slope_traces``: closer to the seafloor's
 direction than strata must be to count as cut by such an event), the data at the pick of the
@@ -181,13 +181,13 @@ RULE_KEYS = {
     "min_extent_traces": (int, 2, 100000),
     "max_gap_traces": (int, 0, 1000),
     "max_stratal_dip_ms_per_trace": (float, 0.1, 100.0),
-    "multiple_guard_ms": (float, 0.0, 500.0),
+    "multiple_guard_periods": (float, 0.0, 20.0),
     "stability_tolerance_ms": (float, 0.0, 1000.0),
     "stability_tolerance_fraction": (float, 0.0, 1.0),
     "max_pick_angle_deg": (float, 0.1, 45.0),
     "pick_slope_traces": (int, 1, 101),
     "min_pick_run_traces": (int, 1, 100000),
-    "pick_on_event_ms": (float, 0.0, 100.0),
+    "pick_on_event_periods": (float, 0.0, 5.0),
     "min_dip_linearity": (float, 0.0, 1.0),
     "extend_min_semblance": (float, 0.0, 1.0),
     "peg_leg_min_parent_ratio": (float, 0.0, 10.0),
@@ -221,8 +221,9 @@ def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, A
     seafloor = context.seafloor
     if seafloor.n_found < max(3, int(settings["window_traces"])) or seafloor.polarity == 0:
         return []
-    search = _without_picked_contacts(_search_events(section, seafloor, velocity, settings), seafloor,
-                                      picks, float(settings["pick_on_event_ms"]))
+    period_ms = context.dominant_period_ms  # tolerances are in periods of the panel's dominant frequency
+    search = _without_picked_contacts(_search_events(section, seafloor, velocity, settings, period_ms), seafloor,
+                                      picks, float(settings["pick_on_event_periods"]) * period_ms)
     findings = [_event_finding(event, section, seafloor, velocity, settings) for event in search.events]
     horizons = [horizon for horizon in picks.horizons if horizon.kind == "horizon" and horizon.n_points >= 2]
     if horizons:
@@ -235,7 +236,7 @@ def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, A
 
 # --- events ----------------------------------------------------------------------------------
 def _search_events(section: Section, seafloor: Seafloor, velocity: VelocityModel,
-                   settings: Mapping[str, Any]) -> EventSearch:
+                   settings: Mapping[str, Any], period_ms: float = 40.0) -> EventSearch:
     """Run the seafloor-parallel event search with the rules, then drop water-layer peg-legs."""
     dt_ms = section.dt_ms
     search_to_ms = float(settings["search_to_ms"])
@@ -261,11 +262,11 @@ def _search_events(section: Section, seafloor: Seafloor, velocity: VelocityModel
         max_gap_traces=int(settings["max_gap_traces"]),
         max_dip_samples_per_trace=float(settings["max_stratal_dip_ms_per_trace"]) / dt_ms,
         exclude_twt_below_seafloor_ms=multiples,
-        exclude_half_width_ms=float(settings["multiple_guard_ms"]),
+        exclude_half_width_ms=float(settings["multiple_guard_periods"]) * period_ms,
         extend_min_semblance=float(settings["extend_min_semblance"]),
         above_dip_fraction=float(settings["above_angle_fraction"]),
     )
-    guard_ms = float(settings["multiple_guard_ms"])
+    guard_ms = float(settings["multiple_guard_periods"]) * period_ms
     kept: list[SeafloorParallelEvent] = []
     for event in search.events:  # shallowest first
         if any(_is_peg_leg(event, parent, seafloor_twt, guard_ms) for parent in kept):
@@ -431,7 +432,7 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
         distance_ms = np.abs(pick_twt - event_twt)
         near = np.isfinite(distance_ms) & (distance_ms <= settings["band_ms"])  # where the stratal dip was measured
         reference_ms = np.where(near, event_dip * dt_ms + seafloor_slope, reference_ms)  # stratal dip, not the event's
-        on_event |= near & (distance_ms <= settings["pick_on_event_ms"])
+        on_event |= near & (distance_ms <= float(settings["pick_on_event_periods"]) * period_ms)
 
     depth_below_m = velocity.depth_below_seafloor_m(np.nan_to_num(below_ms, nan=0.0))
     interval_velocity = velocity.interval_velocity_m_s(depth_below_m)
@@ -452,7 +453,7 @@ def _pick_findings(horizon: Horizon, section: Section, seafloor: Seafloor, searc
                                     nan=90.0)) < float(settings["min_angle_to_strata_deg"])
     reversed_polarity = pick_sign * seafloor.polarity < 0
     on_path_boundary = parallel & reversed_polarity & coherent & ~near_seafloor
-    guard_ms = float(settings["multiple_guard_ms"])
+    guard_ms = float(settings["multiple_guard_periods"]) * period_ms
     for order in (2.0, 3.0):  # the first and second seafloor multiples parallel the seafloor too
         on_path_boundary &= ~(np.abs(pick_twt - order * seafloor_twt) <= guard_ms)
     candidates = np.flatnonzero(on_path_boundary)

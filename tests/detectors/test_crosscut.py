@@ -331,8 +331,8 @@ def test_seafloor_multiple_and_peg_leg_are_not_boundaries(rules):
                                   amplitude=search.stack[event.trace_index, peg_leg_sample])
     assert np.mean(np.sign(peg_leg.amplitude) == -np.sign(event.amplitude)) >= 0.9  # -2 R_sf A: reversed
     args = (search.stack, search.stack_envelope, DT_MS, seafloor.twt_ms)
-    assert water_layer_peg_leg_share(*args, peg_leg, 1.0, rules["crosscut"]["multiple_guard_ms"]) >= 0.5
-    assert water_layer_peg_leg_share(*args, event, 1.0, rules["crosscut"]["multiple_guard_ms"]) <= 0.1
+    assert water_layer_peg_leg_share(*args, peg_leg, 1.0, rules["crosscut"]["multiple_guard_periods"] * 40.0) >= 0.5
+    assert water_layer_peg_leg_share(*args, event, 1.0, rules["crosscut"]["multiple_guard_periods"] * 40.0) <= 0.1
 
 
 # --- the bundled demo line ---------------------------------------------------------------------
@@ -392,7 +392,7 @@ def test_demo_nothing_on_the_seafloor_multiple_or_peg_legs(demo):
     within the truth's time range."""
     modelled, picks, truth, findings = demo
     rules = default_rules()
-    guard_ms = rules["crosscut"]["multiple_guard_ms"]
+    guard_ms = rules["crosscut"]["multiple_guard_periods"] * 40.0
     seafloor_ms = modelled.seafloor_twt_ms
     multiple_ms = 2.0 * seafloor_ms
     low_ms, high_ms = truth["other_events"]["first_seafloor_multiple_twt_ms"]
