@@ -17,8 +17,8 @@ Planted mistakes, for tests and the benchmark:
 - a **pick on the multiple** (``pick_on_multiple``): one horizon's picks on one line follow the
   first seafloor multiple, at twice the seafloor time.
 
-With the defaults the seafloor lies near 400 ms, its first multiple near 800 ms, and H1, H2
-and H3 near 640, 870 and 1100 ms, each at least 60 ms from a multiple or a peg-leg of H1.
+With the defaults the seafloor lies near 600 ms and H1, H2 and H3 near 720, 890 and 1080 ms,
+all above the first seafloor multiple (near 1200 ms) and the peg-legs.
 
 The scenario (the Quorvelle Trough grid, lines QV26-...) is invented.
 """
@@ -48,9 +48,9 @@ SEDIMENT_M_S = 1650.0
 class MapEarth:
     """Depths as planes plus a dome, metres below sea level, at map position (x, y) in metres."""
 
-    seafloor_m: float = 300.0
+    seafloor_m: float = 450.0
     seafloor_dip_m_per_km: tuple[float, float] = (12.0, 6.0)
-    tops_m: tuple[float, ...] = (500.0, 700.0, 950.0)
+    tops_m: tuple[float, ...] = (550.0, 700.0, 900.0)
     top_dip_m_per_km: tuple[float, float] = (20.0, -10.0)
     dome_m: float = 40.0
     dome_centre_m: tuple[float, float] = (600.0, 600.0)
@@ -140,7 +140,7 @@ def _shift(data: np.ndarray, samples: int) -> np.ndarray:
 
 
 def write_grid(folder: str, lines: Sequence[GridLine], volumes: Sequence[GridVolume] = (), *,
-               earth: MapEarth = MapEarth(), dt_ms: float = 4.0, n_samples: int = 320, frequency_hz: float = 25.0,
+               earth: MapEarth = MapEarth(), dt_ms: float = 4.0, n_samples: int = 330, frequency_hz: float = 25.0,
                snr: float | None = 30.0, static_ms: Mapping[str, float] | None = None,
                pick_shift_ms: Mapping[tuple[str, str], float] | None = None,
                pick_on_multiple: Sequence[tuple[str, str]] = (), origin_x_m: float = 420000.0,
