@@ -14,7 +14,8 @@ sections:
     2d: true                      # optional: read the file as a line in trace order
 ```
 
-Every path is taken relative to the folder of the project file (an absolute path stays as
+The file is read with the one safe YAML loader (``pitfalls.io.yaml_safe``: no anchors,
+aliases or repeated keys). Every path is taken relative to the folder of the project file (an absolute path stays as
 it is). Each problem is one :class:`~pitfalls.errors.PitfallsInputError` naming the project
 file and the entry (``sections[3].picks[1]``): an unknown or missing key, a wrong type, a
 byte outside the trace header, byte options together with ``2d``, the same section listed
@@ -28,9 +29,8 @@ import os
 from dataclasses import dataclass
 from typing import Any
 
-import yaml
-
 from pitfalls.errors import PitfallsInputError
+from pitfalls.io.yaml_safe import read_yaml
 
 TOP_KEYS = ("rules", "sections")
 SECTION_KEYS = ("section", "picks", "iline_byte", "xline_byte", "2d", "velocity")
@@ -61,30 +61,8 @@ class Project:
 
 
 def _read_document(path: str) -> Any:
-    if not os.path.isfile(path):
-        raise PitfallsInputError(path, "", "project file not found", "check the path to the project YAML file")
-    try:
-        with open(path, "rb") as handle:
-            raw = handle.read()
-    except OSError as err:
-        raise PitfallsInputError(path, "", f"project file cannot be read ({err.strerror or err})",
-                                 "check that you may read the file") from err
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as err:
-        line = raw[: err.start].count(b"\n") + 1
-        raise PitfallsInputError(path, f"line {line}", f"byte {err.start} is not UTF-8 text",
-                                 "save the project file as UTF-8 text") from err
-    try:
-        return yaml.safe_load(text)
-    except yaml.MarkedYAMLError as err:
-        mark = err.problem_mark or err.context_mark
-        where = f"line {mark.line + 1}" if mark is not None else ""
-        problem = " ".join(part for part in (err.context, err.problem) if part) or "not valid YAML"
-        raise PitfallsInputError(path, where, f"not valid YAML: {problem}",
-                                 "check the indentation, the colons and the dashes before each section") from err
-    except (yaml.YAMLError, ValueError, KeyError, TypeError, OverflowError, RecursionError) as err:
-        raise PitfallsInputError(path, "", "not valid YAML", "write plain keys, values and lists as the README shows") from err
+    _, document = read_yaml(path, what="project file")
+    return document
 
 
 def _unknown(path: str, where: str, key: Any, allowed: tuple[str, ...]) -> PitfallsInputError:

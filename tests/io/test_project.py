@@ -57,6 +57,8 @@ sections:
     ("sections:\n  - section: lines\n", "sections[0].section", "folder"),
     ("rules: none.yaml\nsections:\n  - section: lines/L1.sgy\n", "rules", "does not exist"),
     ("sections:\n  - section: lines/L1.sgy\n   picks: [a]\n", "line 3", "not valid YAML"),
+    ("sections:\n  - section: lines/L1.sgy\n    picks: [picks.csv]\n    picks: [other.csv]\n", "line 4", "repeats"),
+    ("sections:\n  - &one {section: lines/L1.sgy}\n  - *one\n", "line", "alias"),
 ])
 def test_bad_entries_name_the_entry(folder, text, where, words):
     with pytest.raises(PitfallsInputError) as caught:
