@@ -211,7 +211,7 @@ def run_project(project: Project, rules: Mapping[str, Any], rules_path: str, rul
     requests = [TraceRequest(outcomes[k].label, tasks[k].path, tuple(sorted(needed[k]))) for k in order]
     read = dict(zip(order, runner.map(read_tie_traces, requests)))
     measurements = []
-    found: list[ProjectFinding] = []
+    mis_ties = []
     for k, index_a, l, index_b, x_m, y_m in ties:
         if isinstance(read[k], str) or isinstance(read[l], str):
             continue  # the traces could not be read a second time; the section's own scan stands
@@ -219,12 +219,12 @@ def run_project(project: Project, rules: Mapping[str, Any], rules_path: str, rul
         row_of_b = {index: row for row, index in enumerate(sorted(needed[l]))}
         side_a = _side(outcomes[k], index_a, windows[k, index_a], read[k], row_of_a)
         side_b = _side(outcomes[l], index_b, windows[l, index_b], read[l], row_of_b)
-        measurement, tie_findings = misties.tie(side_a, side_b, x_m, y_m, rules)
+        measurement, found_here = misties.tie(side_a, side_b, x_m, y_m, rules)
         measurements.append(measurement)
-        info_by_label = {o.label: o.result.section for o in (outcomes[k], outcomes[l])}
-        for label, finding in tie_findings:
-            scored = replace(finding, score=score(finding, info_by_label[label], rules["ranking"]))
-            found.append(ProjectFinding(label, scored))
+        mis_ties.extend(found_here)
+    info_by_label = {o.label: o.result.section for o in outcomes if o.result is not None}
+    found = [ProjectFinding(label, replace(finding, score=score(finding, info_by_label[label], rules["ranking"])))
+             for label, finding in misties.place_mis_ties(mis_ties, measurements)]
     for outcome in outcomes:
         if outcome.result is not None:
             found.extend(ProjectFinding(outcome.label, finding) for finding in outcome.result.findings)

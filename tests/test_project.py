@@ -8,12 +8,14 @@ QV26-201/202 cross at four traces; survey QV26-3D is crossed by 101 and 201. Pla
 - QV26-202: H1 picked on the first seafloor multiple (2 t_sf): a mis-tie on a multiple, placed on 202.
 """
 import copy
+import io
 import json
 import os
 import subprocess
 import sys
 
 import pytest
+from rich.console import Console
 
 from pitfalls import detectors
 from pitfalls.errors import PitfallsInputError
@@ -23,7 +25,7 @@ from pitfalls.io.rules import load_rules
 from pitfalls.io.scheduler import LocalRunner
 from pitfalls.modelling.grid import GridVolume, grid_lines, write_grid, write_project_file
 from pitfalls.project import run_project
-from pitfalls.report.project import SCHEMA, render_markdown, report_dict
+from pitfalls.report.project import SCHEMA, render_markdown, render_terminal, report_dict
 
 STATIC, SKIPPED, ON_MULTIPLE = "QV26-102", "QV26-201", "QV26-202"
 
@@ -65,18 +67,23 @@ def test_every_crossing_and_survey_stretch_is_tied(report):
                     ("QV26-102.sgy", "QV26-201.sgy"), ("QV26-102.sgy", "QV26-202.sgy"), ("QV26-201.sgy", "QV26-3D.sgy")}
     for tie in report["ties"]:
         assert tie["seafloor_correlation"] > 0.9
-        assert tie["horizons_compared"] == 3
+        assert tie["horizons_compared"] == ["H1", "H2", "H3"]
         expected = -12.0 if tie["section_a"] == f"{STATIC}.sgy" else 0.0  # b minus a
         assert tie["seafloor_shift_ms"] == pytest.approx(expected, abs=1.0)
         assert tie["seafloor_phase_deg"] == pytest.approx(0.0, abs=5.0)
 
 
 def test_a_horizon_picked_a_period_late_is_a_mis_tie_on_another_loop(report):
+    """Line 201 mis-ties H2 at all three of its ties, the others only where they meet it: each finding is on 201."""
     found = [f for f in misties(report) if f["horizon"] == "H2"]
     assert len(found) == 3 and all(f"{SKIPPED}.sgy" in pair(f) for f in found)
     for finding in found:
         evidence = finding["evidence"]
-        assert finding["severity"] == "high"
+        assert finding["severity"] == "high" and finding["section"] == f"{SKIPPED}.sgy"
+        side = "a" if evidence["section_a"] == f"{SKIPPED}.sgy" else "b"
+        other = "b" if side == "a" else "a"
+        assert (evidence[f"misties_{side}"], evidence[f"ties_{side}"]) == (3, 3)
+        assert evidence[f"misties_{other}"] == 1 and evidence[f"ties_{other}"] in (2, 3)
         assert evidence["explanation"] == "loop" and abs(evidence["loops"]) == 1
         later = 1 if evidence["section_b"] == f"{SKIPPED}.sgy" else -1  # the late pick is on b: positive residual
         assert evidence["residual_ms"] * later == pytest.approx(40.0, abs=4.0)
@@ -189,10 +196,16 @@ def test_jobs_below_one_is_an_input_error():
         scheduler.open_runner(0, None)
 
 
-def test_markdown_names_the_section_of_every_finding(grid, report):
+def test_markdown_and_terminal_name_the_section_of_every_finding(grid):
     rules, path, sha = load_rules(None, detectors.rule_keys())
     with LocalRunner(1) as runner:
         result = run_project(read_project(grid.project), rules, path, sha, runner)
     text = render_markdown(result)
     for item in result.findings:
         assert f"on {item.section}" in text
+    buffer = io.StringIO()
+    Console(file=buffer, width=160, color_system=None, force_terminal=False).print(render_terminal(result))
+    terminal = buffer.getvalue()
+    assert terminal.index("Sections") < terminal.index("Ties") < terminal.index("Findings across the project")
+    assert "QV26-3D.sgy IL 103 XL 301" in terminal and "Caution" in terminal
+    assert terminal.count("pick.mis-tie") == 5

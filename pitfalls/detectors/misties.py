@@ -18,6 +18,10 @@ pick's time plus the seafloor's), and the other line's pick does not, the findin
 line and the multiple and is placed on that line. These explanations are read from the times
 alone; the traces are not compared at the horizon.
 
+Each mis-tie is placed on the section whose pick is the likelier culprit: the one with the
+pick on a multiple, or else the one that mis-ties this horizon at the larger share of all its
+ties in the project (a line picked on the wrong loop mis-ties wherever it is crossed).
+
 Severity: high from ``high_periods`` periods, or when a pick lies on a multiple; medium
 otherwise. When the seafloor itself correlates poorly between the two traces (below
 ``min_seafloor_correlation``) the line-to-line shift is unsure and the finding is low.
@@ -34,8 +38,8 @@ References
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
-from typing import Any, Mapping
+from dataclasses import dataclass, replace
+from typing import Any, Mapping, Sequence
 
 import numpy as np
 
@@ -113,8 +117,23 @@ class TieMeasurement:
     seafloor_twt_ms_b: float
     seafloor: SeafloorTie
     dominant_frequency_hz: float
-    horizons_compared: int
-    horizons_mistied: int
+    horizons_compared: tuple[str, ...]
+    """Horizons picked on both sections at this tie and compared."""
+    horizons_mistied: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class MisTie:
+    """A mis-tie before it is placed on one of its two sections."""
+
+    section_a: str
+    section_b: str
+    location_a: Mapping[str, Any]
+    """Finding range keywords (``traces`` or ``inlines`` + ``xlines``) at the tie on section a."""
+    location_b: Mapping[str, Any]
+    fixed_on: str
+    """``a`` or ``b`` when a pick lies on a multiple on that side only; empty otherwise."""
+    finding: Finding
 
 
 def _location(side: TieSide) -> str:
@@ -144,8 +163,8 @@ def _picks_at(side: TieSide) -> dict[str, float]:
 
 
 def tie(a: TieSide, b: TieSide, x_m: float, y_m: float,
-        rules: Mapping[str, Any]) -> tuple[TieMeasurement, list[tuple[str, Finding]]]:
-    """Measure one tie and return its record and its findings, each with the section it belongs to."""
+        rules: Mapping[str, Any]) -> tuple[TieMeasurement, list[MisTie]]:
+    """Measure one tie and return its record and its mis-ties (placed by :func:`place_mis_ties`)."""
     settings = rules[NAME]
     panel_a, picks_a = _panel(a)
     panel_b, picks_b = _panel(b)
@@ -165,7 +184,7 @@ def tie(a: TieSide, b: TieSide, x_m: float, y_m: float,
                            settings["window_ms"], settings["search_ms"])
     times_a, times_b = _picks_at(a), _picks_at(b)
     shared = [name for name in times_a if name in times_b and np.isfinite(times_a[name]) and np.isfinite(times_b[name])]
-    findings: list[tuple[str, Finding]] = []
+    findings: list[MisTie] = []
     usable = np.isfinite(period_ms) and np.isfinite(sea_tie.lag_ms)
     if usable:
         tolerance_ms = settings["tolerance_periods"] * period_ms
@@ -179,14 +198,14 @@ def tie(a: TieSide, b: TieSide, x_m: float, y_m: float,
     measurement = TieMeasurement(
         section_a=a.section, section_b=b.section, cdp_a=a.cdp, cdp_b=b.cdp, location_a=_location(a),
         location_b=_location(b), x_m=x_m, y_m=y_m, seafloor_twt_ms_a=seafloor_a, seafloor_twt_ms_b=seafloor_b,
-        seafloor=sea_tie, dominant_frequency_hz=frequency_hz, horizons_compared=len(shared) if usable else 0,
-        horizons_mistied=len(findings))
+        seafloor=sea_tie, dominant_frequency_hz=frequency_hz, horizons_compared=tuple(shared) if usable else (),
+        horizons_mistied=tuple(m.finding.horizon for m in findings))
     return measurement, findings
 
 
 def _finding(name: str, a: TieSide, b: TieSide, x_m: float, y_m: float, times_a: dict[str, float],
              times_b: dict[str, float], seafloor_a: float, seafloor_b: float, sea_tie: SeafloorTie, expected: float,
-             residual: float, period_ms: float, frequency_hz: float, settings: Mapping[str, Any]) -> tuple[str, Finding]:
+             residual: float, period_ms: float, frequency_hz: float, settings: Mapping[str, Any]) -> MisTie:
     tolerance = settings["tolerance_periods"]
     tolerance_ms = tolerance * period_ms
     t_a, t_b = times_a[name], times_b[name]
@@ -234,12 +253,54 @@ def _finding(name: str, a: TieSide, b: TieSide, x_m: float, y_m: float, times_a:
         "multiple_on": owner.section if explanation == "multiple" else "",
         "predicted_multiple_twt_ms": float(predicted),
     }
-    location = {"inlines": (owner.inline, owner.inline), "xlines": (owner.xline, owner.xline)} \
-        if owner.geometry == "3d" else {"traces": (owner.trace_number, owner.trace_number)}
+    location = _range(owner)
     title = (f"{name} mis-ties by {residual:+.0f} ms ({residual / period_ms:+.2f} periods) where {a.section} "
              f"({_location(a)}) meets {b.section} ({_location(b)}): {detail}")
     advice = KINDS["mis-tie"][2]
     finding = Finding(id="pick.mis-tie", detector=NAME, severity=severity, confidence=confidence, title=title,
                       advice=advice, horizon=name, twt_ms=(float(min(t_a, t_b)), float(max(t_a, t_b))),
                       evidence=evidence, **location)
-    return owner.section, finding
+    fixed = "" if explanation != "multiple" else ("a" if owner is a else "b")
+    return MisTie(a.section, b.section, _range(a), _range(b), fixed, finding)
+
+
+def _range(side: TieSide) -> dict[str, Any]:
+    if side.geometry == "3d":
+        return {"inlines": (side.inline, side.inline), "xlines": (side.xline, side.xline)}
+    return {"traces": (side.trace_number, side.trace_number)}
+
+
+def place_mis_ties(mis_ties: Sequence[MisTie], ties: Sequence[TieMeasurement]) -> list[tuple[str, Finding]]:
+    """Put each mis-tie on the section whose pick is the likelier culprit, and say why.
+
+    A pick on a multiple on one side only stays on that side. Otherwise the section that
+    mis-ties this horizon at the larger share of all its ties in the project is the suspect
+    (a line picked on the wrong loop mis-ties at every crossing, its neighbours only where
+    they cross it); on equal shares the finding stays on section a. The counts go into the
+    evidence (``misties_a`` of ``ties_a``, ``misties_b`` of ``ties_b``).
+    """
+    compared: dict[tuple[str, str], int] = {}
+    mistied: dict[tuple[str, str], int] = {}
+    for measured in ties:
+        for section in (measured.section_a, measured.section_b):
+            for name in measured.horizons_compared:
+                compared[section, name] = compared.get((section, name), 0) + 1
+            for name in measured.horizons_mistied:
+                mistied[section, name] = mistied.get((section, name), 0) + 1
+    placed = []
+    for item in mis_ties:
+        name = item.finding.horizon
+        counts = {side: (mistied.get((section, name), 0), compared.get((section, name), 0))
+                  for side, section in (("a", item.section_a), ("b", item.section_b))}
+        share = {side: k / n if n else 0.0 for side, (k, n) in counts.items()}
+        side = item.fixed_on or ("b" if share["b"] > share["a"] else "a")
+        section = item.section_a if side == "a" else item.section_b
+        note = (f"; {item.section_a} mis-ties {name} at {counts['a'][0]} of its {counts['a'][1]} ties, "
+                f"{item.section_b} at {counts['b'][0]} of {counts['b'][1]}")
+        evidence = {**item.finding.evidence, "misties_a": counts["a"][0], "ties_a": counts["a"][1],
+                    "misties_b": counts["b"][0], "ties_b": counts["b"][1], "placed_on": section}
+        location = item.location_a if side == "a" else item.location_b
+        finding = replace(item.finding, title=item.finding.title + note, evidence=evidence,
+                          traces=location.get("traces"), inlines=location.get("inlines"), xlines=location.get("xlines"))
+        placed.append((section, finding))
+    return placed

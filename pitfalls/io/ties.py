@@ -41,7 +41,7 @@ class TieGeometry:
     horizon_names: tuple[str, ...]
     horizon_kinds: tuple[str, ...]
     horizon_twt_ms: np.ndarray
-    """(n_horizons, n_traces) picked time per trace, float32, NaN where not picked."""
+    """(n_horizons, n_traces) picked time per trace, NaN where not picked."""
     dt_ms: float
     t0_ms: float
     n_samples: int
@@ -78,7 +78,7 @@ def read_tie_geometry(path: str, pick_paths: Sequence[str], fallback_spacing_m: 
     xy = np.stack([x * factor, y * factor], axis=1)
     n_traces = info.n_traces
     neighbours = np.full((n_traces, 2), -1, dtype=np.int64)
-    times = np.full((len(placed.names), n_traces), np.nan, dtype=np.float32)
+    times = np.full((len(placed.names), n_traces), np.nan)
     if layout.geometry == "2d":
         neighbours[1:, 0] = np.arange(n_traces - 1)
         neighbours[:-1, 1] = np.arange(1, n_traces)

@@ -56,7 +56,7 @@ def tie_entry(tie) -> dict[str, Any]:
         "seafloor_twt_ms_a": tie.seafloor_twt_ms_a, "seafloor_twt_ms_b": tie.seafloor_twt_ms_b,
         "seafloor_shift_ms": tie.seafloor.lag_ms, "seafloor_phase_deg": tie.seafloor.phase_deg,
         "seafloor_correlation": tie.seafloor.correlation, "dominant_frequency_hz": tie.dominant_frequency_hz,
-        "horizons_compared": tie.horizons_compared, "horizons_mistied": tie.horizons_mistied,
+        "horizons_compared": list(tie.horizons_compared), "horizons_mistied": list(tie.horizons_mistied),
     })
 
 
@@ -117,7 +117,7 @@ def render_markdown(result: ProjectResult) -> str:
             lines.append(f"| {_cell(tie.section_a)} {tie.location_a} | {_cell(tie.section_b)} {tie.location_b} | "
                          f"{tie.x_m:.1f}, {tie.y_m:.1f} | {number(tie.seafloor.lag_ms)} ms | "
                          f"{number(tie.seafloor.phase_deg)} deg | {number(tie.seafloor.correlation)} | "
-                         f"{tie.horizons_compared} | {tie.horizons_mistied} |")
+                         f"{len(tie.horizons_compared)} | {', '.join(tie.horizons_mistied) or '-'} |")
     else:
         lines.append("No two sections cross (or none has CDP X/Y in its headers).")
     lines += ["", "## Findings, most important first", ""]
@@ -170,7 +170,7 @@ def render_terminal(result: ProjectResult) -> Group:
         for tie in result.ties:
             ties.add_row(f"{tie.section_a} {tie.location_a}", f"{tie.section_b} {tie.location_b}",
                          number(tie.seafloor.lag_ms), number(tie.seafloor.phase_deg), number(tie.seafloor.correlation),
-                         str(tie.horizons_compared), str(tie.horizons_mistied))
+                         str(len(tie.horizons_compared)), ", ".join(tie.horizons_mistied) or "-")
         parts.append(ties)
     if result.findings:
         findings = Table(title="Findings across the project, most important first", title_justify="left", show_lines=True)
