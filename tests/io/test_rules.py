@@ -52,7 +52,8 @@ def refused(path, defaults, keys=FAKE_KEYS) -> PitfallsInputError:
 # --- the shipped defaults ---------------------------------------------------------------
 def test_packaged_defaults_are_byte_identical_to_the_repository_copy():
     """Users read and copy rules/default.yaml; the scan uses the packaged file: they must not drift apart."""
-    assert default_rules_bytes() == REPOSITORY_DEFAULTS.read_bytes()
+    assert default_rules_bytes() == REPOSITORY_DEFAULTS.read_bytes(), \
+        "copy rules/default.yaml over pitfalls/data/default_rules.yaml (edit both together)"
 
 
 def test_core_keys_describe_exactly_the_core_sections_of_the_shipped_defaults():
