@@ -120,7 +120,8 @@ def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any],
     Parameters
     ----------
     progress : callable, optional
-        Called as ``progress(done_panels, total_panels, done_samples)`` after every block.
+        Called as ``progress(done_panels, total_panels)`` after every block; a callable with a
+        ``samples`` parameter also gets the samples scanned so far as ``samples=``.
     velocity : VelocityModel, optional
         The velocity function for every depth; defaults to the rules' (``VelocityModel.from_rules``).
     jobs : int
@@ -144,7 +145,7 @@ def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any],
 
 def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any], rules_path: str,
                 rules_sha256: str, selected: Sequence[Any], *, progress: Callable[[int, int], None] | None = None,
-                velocity: VelocityModel | None = None, jobs: int = 1,
+                velocity: VelocityModel | None = None, jobs: int | None = 1,
                 inlines_per_block: int = DEFAULT_INLINES_PER_BLOCK) -> ScanResult:
     """Scan any section source.
 
@@ -153,6 +154,7 @@ def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any]
     ``jobs > 1``, ``reader()`` returning a picklable object with the same ``read_block``.
     """
     velocity = VelocityModel.from_rules(rules) if velocity is None else velocity
+    jobs = 1 if jobs is None else int(jobs)
     info = source.info
     placed = place_picks(list(pick_files), info, source.layout)
     total = source.n_panels
@@ -162,6 +164,7 @@ def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any]
     first_failure: dict[str, tuple[int, str]] = {}
     outcomes: list[PanelOutcome] = []
     samples_done = 0
+    wants_samples = progress is not None and _takes_samples(progress)
     for block in _block_outcomes(source, tasks, placed, selected, rules, velocity, jobs, first_failure):
         for name, spent in block.seconds.items():
             seconds[name] += spent
@@ -171,7 +174,10 @@ def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any]
         outcomes.extend(block.outcomes)
         samples_done += sum(outcome.seafloor_twt_ms.size for outcome in block.outcomes) * info.n_samples
         if progress is not None:
-            progress(len(outcomes), total, samples_done)
+            if wants_samples:
+                progress(len(outcomes), total, samples=samples_done)
+            else:
+                progress(len(outcomes), total)
     # a detector that failed is not trusted after the panel it failed on, however the blocks were run
     per_panel = [[f for f in outcome.findings
                   if f.detector not in first_failure or panel_index < first_failure[f.detector][0]]
@@ -186,6 +192,14 @@ def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any]
         section=info, pick_files=tuple(pick_files), picks=_summaries(placed), rules_path=rules_path,
         rules_sha256=rules_sha256, detectors=runs, findings=rank_findings(findings, info, rules["ranking"]),
         seafloor=_seafloor_summary(outcomes))
+
+
+def _takes_samples(progress: Callable[..., None]) -> bool:
+    import inspect
+    try:
+        return "samples" in inspect.signature(progress).parameters
+    except (TypeError, ValueError):  # a builtin without a signature
+        return False
 
 
 def _block_outcomes(source, tasks: list[tuple[int, int]], placed: PlacedPicks, selected: Sequence[Any],
