@@ -110,6 +110,12 @@ def test_import_is_light_and_every_public_name_resolves():
     assert pitfalls.Finding.__name__ == "Finding" and issubclass(pitfalls.PitfallsInputError, Exception)
 
 
+def test_docstring_examples_run():
+    import doctest
+    outcome = doctest.testmod(pitfalls, optionflags=doctest.ELLIPSIS)
+    assert outcome.failed == 0 and outcome.attempted >= 1
+
+
 @pytest.mark.parametrize("name", ["scan", "load_rules", "explain", "finding_ids"])
 def test_public_functions_have_numpydoc_sections(name):
     doc = getattr(pitfalls, name).__doc__
