@@ -1,6 +1,6 @@
 """The command line: the only module that prints or exits.
 
-Exit codes: 0 the scan ran and no finding reached ``--fail-on``; 1 a finding reached it or a
+Exit codes: 0 the scan ran and no finding reached ``--gate``; 1 a finding reached it or a
 detector failed; 2 bad input or usage (one line on stderr, no traceback).
 """
 from __future__ import annotations
@@ -12,14 +12,12 @@ import os
 import sys
 from typing import Sequence
 
-from rich.console import Console
-
 from pitfalls import __version__
-from pitfalls import detectors as registry
 from pitfalls.errors import PitfallsInputError
 from pitfalls.io.output import write_whole
 
 EXIT_OK, EXIT_FINDINGS, EXIT_INPUT = 0, 1, 2
+RULES_HELP = "YAML rules overriding any subset of the built-in defaults (a copy is rules/default.yaml in the repository)"
 
 
 class _Parser(argparse.ArgumentParser):
@@ -29,7 +27,14 @@ class _Parser(argparse.ArgumentParser):
         raise PitfallsInputError("command line", "", message, f"see `{self.prog} --help`")
 
 
+def _registry():
+    """The detector registry, imported when a command needs it (it loads numpy and scipy)."""
+    from pitfalls import detectors
+    return detectors
+
+
 def build_parser() -> argparse.ArgumentParser:
+    registry = _registry()
     parser = _Parser(prog="pitfalls", description=(
         "Screen seismic interpretation picks on a post-stack SEG-Y section for physical pitfalls "
         "(multiples, false fluid contacts, cross-cutting boundaries, pick errors)."))
@@ -39,7 +44,7 @@ def build_parser() -> argparse.ArgumentParser:
     scan = commands.add_parser("scan", help="scan a SEG-Y section and its picks, print the ranked report")
     scan.add_argument("section", metavar="SECTION", help="post-stack SEG-Y file (2-D line or 3-D volume)")
     scan.add_argument("--picks", action="append", default=[], metavar="FILE", help="pick file (CSV); repeatable")
-    scan.add_argument("--rules", metavar="FILE", help="YAML rules overriding rules/default.yaml")
+    scan.add_argument("--rules", metavar="FILE", help=RULES_HELP)
     scan.add_argument("--format", choices=("terminal", "json", "markdown"), default="terminal")
     scan.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
     scan.add_argument("--annotated-picks", metavar="FILE.csv", help="write the pick rows back with their findings")
@@ -50,13 +55,16 @@ def build_parser() -> argparse.ArgumentParser:
                       help="write a starting accepted-findings file with every finding of this scan commented out")
     scan.add_argument("--detail", choices=("top", "all"), default="top",
                       help="evidence panels for findings at medium and above (top, default) or for every finding (all)")
-    scan.add_argument("--fail-on", choices=("high", "medium", "low", "never"), default="high",
-                      help="exit 1 when a finding is at least this severe (default high)")
+    scan.add_argument("--gate", choices=("high", "medium", "low", "off"), default="high",
+                      help="exit 1 when a finding is at least this severe (default high; off: only a failed "
+                           "detector exits 1)")
     scan.add_argument("--iline-byte", type=int, metavar="N", help="trace-header byte of the inline number (default 189)")
     scan.add_argument("--xline-byte", type=int, metavar="N", help="trace-header byte of the crossline number (default 193)")
     scan.add_argument("--2d", dest="force_2d", action="store_true", help="read the file as a 2-D line in trace order")
     scan.add_argument("--only", metavar="DETECTOR,...", help="run only these detectors: " + ", ".join(registry.BY_NAME))
     scan.add_argument("--quiet", action="store_true", help="print no report on stdout (files and exit code only)")
+    scan.add_argument("--jobs", type=int, metavar="N",
+                      help="worker processes for the blocks of a 3-D volume (default: the machine's cores)")
 
     describe = commands.add_parser("describe", help="measure the character of each interval between the picks and along each pick")
     describe.add_argument("section", metavar="SECTION", help="post-stack SEG-Y file (2-D line or 3-D volume)")
@@ -69,11 +77,23 @@ def build_parser() -> argparse.ArgumentParser:
     describe.add_argument("--xline-byte", type=int, metavar="N", help="trace-header byte of the crossline number (default 193)")
     describe.add_argument("--2d", dest="force_2d", action="store_true", help="read the file as a 2-D line in trace order")
 
+    project = commands.add_parser("project", help="scan every section of a project file and tie them where they cross")
+    project.add_argument("project", metavar="PROJECT.yaml", help="project file listing the sections and their picks")
+    project.add_argument("--format", choices=("terminal", "json", "markdown"), default="terminal")
+    project.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
+    project.add_argument("--gate", choices=("high", "medium", "low", "off"), default="high",
+                         help="exit 1 when a finding is at least this severe (default high; off never fails on findings)")
+    project.add_argument("--jobs", type=int, default=os.cpu_count() or 1, metavar="N",
+                         help="worker processes, or Dask workers with --scheduler local (default: the machine's cores)")
+    project.add_argument("--scheduler", metavar="ADDRESS|local",
+                         help="run the sections on the Dask scheduler at ADDRESS, or on a new local Dask cluster "
+                              '(needs pip install -e ".[dask]")')
+
     demo = commands.add_parser("demo", help="write the bundled demo scenario, then scan it")
     demo.add_argument("--out", metavar="DIR", default="pitfalls-demo", help="folder for the demo files (default ./pitfalls-demo)")
 
     rules = commands.add_parser("rules", help="print the active rules, defaults merged, validated")
-    rules.add_argument("--rules", metavar="FILE", help="YAML rules overriding rules/default.yaml")
+    rules.add_argument("--rules", metavar="FILE", help=RULES_HELP)
 
     explain = commands.add_parser("explain", help="what a finding means, why it matters, what to check")
     explain.add_argument("finding_id", nargs="?", metavar="FINDING_ID")
@@ -92,7 +112,7 @@ def write_atomically(path: str, text: str | bytes) -> None:
 
 def _load_rules(path: str | None):
     from pitfalls.io.rules import load_rules
-    return load_rules(path, registry.rule_keys())
+    return load_rules(path, _registry().rule_keys())
 
 
 def _render_text(result, fmt: str, width: int | None = None, detail: str = "top") -> str:
@@ -103,6 +123,7 @@ def _render_text(result, fmt: str, width: int | None = None, detail: str = "top"
         from pitfalls.report.markdown import render
         return render(result)
     from pitfalls.report.terminal import render
+    from rich.console import Console
     buffer = io.StringIO()
     Console(file=buffer, width=width or 120, color_system=None, force_terminal=False).print(render(result, detail))
     return buffer.getvalue()
@@ -125,18 +146,14 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.figure:
         from pitfalls.report.figure import require_matplotlib
         require_matplotlib()
-    progress_console = Console(stderr=True)
-    show_progress = sys.stderr.isatty()
-    if show_progress:
-        from rich.progress import Progress
-        with Progress(console=progress_console, transient=True) as bar:
-            task = bar.add_task("scanning", total=None)
-            result = scan(args.section, args.picks, rules, rules_path, rules_sha, only,
-                          args.iline_byte or 189, args.xline_byte or 193, args.force_2d,
-                          progress=lambda done, total: bar.update(task, completed=done, total=total))
+    jobs = _jobs(args.jobs)
+    options = dict(only=only, iline_byte=args.iline_byte or 189, xline_byte=args.xline_byte or 193,
+                   force_2d=args.force_2d, jobs=jobs)
+    if sys.stderr.isatty():
+        with _progress_bar() as progress:
+            result = scan(args.section, args.picks, rules, rules_path, rules_sha, progress=progress, **options)
     else:
-        result = scan(args.section, args.picks, rules, rules_path, rules_sha, only,
-                      args.iline_byte or 189, args.xline_byte or 193, args.force_2d)
+        result = scan(args.section, args.picks, rules, rules_path, rules_sha, **options)
     if args.accepted:
         from pitfalls.report.accepted import apply_accepted
         result = apply_accepted(result, accepted)
@@ -152,9 +169,43 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.figure:
         from pitfalls.report.figure import draw
         write_atomically(args.figure, draw(result, rules))
-    if result.failed or result.reaches(args.fail_on):
+    if result.failed or result.reaches(args.gate):
         return EXIT_FINDINGS
     return EXIT_OK
+
+
+def _jobs(requested: int | None) -> int:
+    """Worker processes: as asked, else one per core the process may use."""
+    if requested is None:
+        try:
+            return max(1, len(os.sched_getaffinity(0)))
+        except AttributeError:  # platforms without CPU affinity
+            return max(1, os.cpu_count() or 1)
+    if requested < 1:
+        raise PitfallsInputError("--jobs", "", f"is {requested}", "give a whole number of worker processes, 1 or more")
+    return requested
+
+
+class _progress_bar:
+    """A transient progress bar on stderr: panels (inlines) done, samples per second, time left."""
+
+    def __enter__(self):
+        from rich.console import Console
+        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
+        self._bar = Progress(TextColumn("scanning"), BarColumn(), MofNCompleteColumn(), TextColumn("panels"),
+                             TextColumn("{task.fields[rate]}"), TimeRemainingColumn(),
+                             console=Console(stderr=True), transient=True)
+        self._bar.__enter__()
+        self._task = self._bar.add_task("scan", total=None, rate="")
+        return self
+
+    def __call__(self, done: int, total: int, samples: int = 0) -> None:
+        elapsed = self._bar.tasks[0].elapsed or 0.0
+        rate = f"{samples / elapsed / 1e6:.1f} Msamples/s" if samples and elapsed > 0 else ""
+        self._bar.update(self._task, completed=done, total=total, rate=rate)
+
+    def __exit__(self, *exc: object) -> None:
+        self._bar.__exit__(*exc)
 
 
 def _emit(result, fmt: str, output: str | None, quiet: bool, stdout: Console, detail: str = "top") -> None:
@@ -188,6 +239,7 @@ def _describe(args: argparse.Namespace, stdout: Console) -> int:
         text = report.render_markdown(description)
     else:
         buffer = io.StringIO()
+        from rich.console import Console
         Console(file=buffer, width=120, color_system=None, force_terminal=False).print(report.render_terminal(description))
         text = buffer.getvalue()
     if args.output:
@@ -197,6 +249,42 @@ def _describe(args: argparse.Namespace, stdout: Console) -> int:
     else:
         sys.stdout.write(text)
         sys.stdout.flush()
+    return EXIT_OK
+
+
+def _project(args: argparse.Namespace, stdout: Console) -> int:
+    from pitfalls.io.project import read_project
+    from pitfalls.io.scheduler import open_runner
+    from pitfalls.project import run_project
+    from pitfalls.report import project as project_report
+    project = read_project(args.project)
+    rules, rules_path, rules_sha = _load_rules(project.rules_path)
+    if args.output:
+        inputs = {os.path.abspath(args.project)} | {os.path.abspath(p) for s in project.sections
+                                                     for p in (s.path, *s.pick_paths)}
+        if os.path.abspath(args.output) in inputs:
+            raise PitfallsInputError(args.output, "", "is one of the input files",
+                                     "write the output somewhere else; inputs are never changed")
+    with open_runner(args.jobs, args.scheduler) as runner:
+        result = run_project(project, rules, rules_path, rules_sha, runner)
+    if args.format == "json":
+        text = json.dumps(project_report.report_dict(result), indent=2) + "\n"
+    elif args.format == "markdown":
+        text = project_report.render_markdown(result)
+    else:
+        buffer = io.StringIO()
+        Console(file=buffer, width=120, color_system=None, force_terminal=False).print(
+            project_report.render_terminal(result))
+        text = buffer.getvalue()
+    if args.output:
+        write_atomically(args.output, text)
+    elif args.format == "terminal":
+        stdout.print(project_report.render_terminal(result))
+    else:
+        sys.stdout.write(text)
+        sys.stdout.flush()
+    if result.failed or result.reaches(args.gate):
+        return EXIT_FINDINGS
     return EXIT_OK
 
 
@@ -227,13 +315,16 @@ def _demo(args: argparse.Namespace, stdout: Console) -> int:
 def _rules(args: argparse.Namespace) -> int:
     from pitfalls.io.rules import render_rules
     rules, rules_path, _ = _load_rules(args.rules)
-    sys.stdout.write(f"# active rules: {rules_path} merged over the defaults\n")
+    if args.rules:
+        sys.stdout.write(f"# active rules: {rules_path} merged over the built-in defaults\n")
+    else:
+        sys.stdout.write(f"# active rules: {rules_path}\n")
     sys.stdout.write(render_rules(rules))
     return EXIT_OK
 
 
 def _explain(args: argparse.Namespace, stdout: Console) -> int:
-    kinds = registry.finding_kinds()
+    kinds = _registry().finding_kinds()
     if args.list or not args.finding_id:
         for finding_id, (detector, (meaning, _, _)) in kinds.items():
             stdout.print(f"{finding_id:34s} {meaning}", highlight=False)
@@ -249,15 +340,22 @@ def _explain(args: argparse.Namespace, stdout: Console) -> int:
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit code (also used by ``python -m pitfalls``)."""
+    arguments = sys.argv[1:] if argv is None else list(argv)
+    if arguments == ["--version"]:  # answered before numpy, scipy or rich are loaded
+        print(f"pitfalls {__version__}")
+        return EXIT_OK
+    from rich.console import Console
     stdout = Console(highlight=False)
     try:
-        args = build_parser().parse_args(argv)
+        args = build_parser().parse_args(arguments)
         if args.command == "scan":
             return _scan(args, stdout)
         if args.command == "describe":
             return _describe(args, stdout)
         if args.command == "demo":
             return _demo(args, stdout)
+        if args.command == "project":
+            return _project(args, stdout)
         if args.command == "rules":
             return _rules(args)
         if args.command == "explain":
