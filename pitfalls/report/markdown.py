@@ -2,7 +2,7 @@
 from __future__ import annotations
 
 from pitfalls.engine import ScanResult
-from pitfalls.report.text import CAUTION, location, number, section_lines, time_window, worst_by_horizon
+from pitfalls.report.text import CAUTION, location, number, section_lines, split_evidence, time_window, worst_by_horizon
 
 
 def _cell(text: str) -> str:
@@ -42,7 +42,11 @@ def render(result: ScanResult) -> str:
                       f"fingerprint `{f.fingerprint}`.", ""]
             if f.accepted is not None:
                 lines += [f"Accepted by {_cell(f.accepted['by'])} on {f.accepted['date']}: {_cell(f.accepted['reason'])}", ""]
-            lines += [f"- {key}: {number(value)}" for key, value in f.evidence.items()]
+            measured, limits = split_evidence(f.evidence)
+            lines += [f"- {key}: {number(value)}" for key, value in measured]
+            if limits:
+                lines += ["", "Limits and assumptions from the rules (not measured): "
+                          + ", ".join(f"{key} {number(value)}" for key, value in limits)]
             lines += ["", f"**Check:** {f.advice}", ""]
     lines += ["## Caution", "", CAUTION, ""]
     return "\n".join(lines)

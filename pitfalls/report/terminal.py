@@ -7,7 +7,7 @@ from rich.table import Table
 from rich.text import Text
 
 from pitfalls.engine import ScanResult
-from pitfalls.report.text import CAUTION, location, number, section_lines, time_window, worst_by_horizon
+from pitfalls.report.text import CAUTION, location, number, section_lines, split_evidence, time_window, worst_by_horizon
 
 SEVERITY_STYLE = {"high": "bold red", "medium": "yellow", "low": "cyan"}
 
@@ -100,8 +100,12 @@ def _details(findings) -> list:
                     f"score {finding.score:.2f}; fingerprint {finding.fingerprint}\n")
         if len(finding.detectors) > 1:
             body.append(f"Found by {', '.join(finding.detectors)}\n")
-        for key, value in finding.evidence.items():
+        measured, limits = split_evidence(finding.evidence)
+        for key, value in measured:
             body.append(f"  {key}: {number(value)}\n")
+        if limits:
+            body.append("Limits and assumptions from the rules (not measured): "
+                        + ", ".join(f"{key} {number(value)}" for key, value in limits) + "\n", style="dim")
         body.append("Check: ", style="bold")
         body.append(finding.advice)
         parts.append(Panel(body, title=f"#{finding.rank} {finding.id}", title_align="left",

@@ -49,6 +49,22 @@ def number(value: Any) -> str:
     return str(value)
 
 
+LIMIT_KEYS = frozenset({
+    "max_departure_deg", "stability_tolerance_ms", "tolerance_ms", "gain_exponent_assumed",
+    "plausible_head_gradient_limit_m_per_km", "assumed_sediment_velocity_m_s",
+})
+"""Evidence keys that carry a rule's threshold or an assumed value, not a measurement."""
+
+
+def split_evidence(evidence) -> tuple[list[tuple[str, object]], list[tuple[str, object]]]:
+    """(measured, limits): the evidence items as measured on the data, and those that are thresholds or
+    assumptions from the rules (a joined finding's members' keys carry their id as a prefix)."""
+    measured, limits = [], []
+    for key, value in evidence.items():
+        (limits if key.rsplit(".", 1)[-1] in LIMIT_KEYS else measured).append((key, value))
+    return measured, limits
+
+
 def worst_by_horizon(result: ScanResult) -> dict[str, tuple[Finding, int]]:
     """Each horizon's best-ranked finding and how many findings it has."""
     worst: dict[str, tuple[Finding, int]] = {}

@@ -106,3 +106,14 @@ def test_fingerprints_are_stable_across_runs_order_and_small_pick_edits():
     assert [second["pick.cycle-skip(11, 29)"], second["pick.cycle-skip(203, 258)"],
             second["multiple.seafloor(10, 300)"]] == first
     assert len(set(first)) == 3 and all(len(value) == 12 for value in first)
+
+
+def test_thresholds_are_not_printed_as_measurements():
+    """Rule limits carried in the evidence (also under a joined member's prefix) are listed apart from the
+    measured numbers, in the terminal panel as in the Markdown report."""
+    from pitfalls.report.text import split_evidence
+    evidence = {"departure_deg_median": 4.2, "max_departure_deg": 3.0,
+                "crosscut.hydrate-like.stability_tolerance_ms": 50.0, "run_traces": 40}
+    measured, limits = split_evidence(evidence)
+    assert [key for key, _ in measured] == ["departure_deg_median", "run_traces"]
+    assert [key for key, _ in limits] == ["max_departure_deg", "crosscut.hydrate-like.stability_tolerance_ms"]
