@@ -38,10 +38,10 @@ def render(result: ScanResult, detail: str = "top") -> Group:
     parts.append(Panel(header, title="pitfalls scan", border_style="blue"))
     parts.append(_picks_table(result))
     if result.findings:
-        parts.append(_findings_table(result))
+        parts.append(_findings_table(result, detail))
         shown = [f for f in result.findings
                  if detail == "all" or (f.severity in ("high", "medium") and f.accepted is None)]
-        parts.extend(_details(shown))
+        parts.extend(_details(shown, every_member=detail == "all"))
         hidden = len(result.findings) - len(shown)
         if hidden:
             parts.append(Text(f"{hidden} more finding{'s' if hidden != 1 else ''} (low or accepted) in the table above; "
@@ -71,8 +71,9 @@ def _picks_table(result: ScanResult) -> Table:
     return table
 
 
-def _findings_table(result: ScanResult) -> Table:
-    table = Table(title="Findings, most important first", title_justify="left", show_lines=True)
+def _findings_table(result: ScanResult, detail: str = "all") -> Table:
+    """One row per finding; the sentence only for findings at medium and above unless ``detail="all"``."""
+    table = Table(title="Findings, most important first", title_justify="left", show_lines=detail == "all")
     table.add_column("#", justify="right", no_wrap=True)
     table.add_column("severity", no_wrap=True)
     table.add_column("finding")
@@ -80,8 +81,9 @@ def _findings_table(result: ScanResult) -> Table:
         cell = Text()
         cell.append(finding.id, style="bold")
         cell.append(f"  {finding.horizon or '(section)'}  {location(finding)}  {time_window(finding)}  "
-                    f"confidence {finding.confidence:.2f}\n")
-        cell.append(finding.title)
+                    f"confidence {finding.confidence:.2f}")
+        if detail == "all" or finding.severity != "low":
+            cell.append("\n" + finding.title)
         severity = Text(finding.severity, style=SEVERITY_STYLE[finding.severity])
         if finding.accepted is not None:
             severity = Text(f"{finding.severity}\naccepted", style="dim")
@@ -91,7 +93,9 @@ def _findings_table(result: ScanResult) -> Table:
     return table
 
 
-def _details(findings) -> list:
+def _details(findings, every_member: bool = True) -> list:
+    """One evidence panel per finding; a joined finding shows its members' numbers only with ``every_member``
+    (its advice names every member either way)."""
     parts = []
     for finding in findings:
         body = Text()
@@ -101,8 +105,14 @@ def _details(findings) -> list:
         if len(finding.detectors) > 1:
             body.append(f"Found by {', '.join(finding.detectors)}\n")
         measured, limits = split_evidence(finding.evidence)
-        for key, value in measured:
-            body.append(f"  {key}: {number(value)}\n")
+        members = tuple(finding.evidence.get("merged_ids", ()))
+        if not every_member and members:
+            measured = [(key, value) for key, value in measured if not key.startswith(tuple(m + "." for m in members))]
+            limits = [(key, value) for key, value in limits if not key.startswith(tuple(m + "." for m in members))]
+        if measured:  # one wrapped paragraph: key value; key value; ...
+            body.append("Evidence: " + "; ".join(f"{key} {number(value)}" for key, value in measured) + "\n")
+        if not every_member and members:
+            body.append(f"  (the evidence of {', '.join(members)}: --detail all)\n", style="dim")
         if limits:
             body.append("Limits and assumptions from the rules (not measured): "
                         + ", ".join(f"{key} {number(value)}" for key, value in limits) + "\n", style="dim")
