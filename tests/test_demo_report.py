@@ -81,3 +81,27 @@ def test_correct_horizons_draw_nothing_high(result, truth):
         unexpected = [f"+{f.id} ({f.horizon})" for f in result.findings
                       if f.horizon == item["horizon"] and f.severity == "high"]
         assert unexpected == []
+
+
+def test_the_planted_mistakes_are_the_top_findings(result, truth):
+    """With one finding per event, the three planted mistakes are the three best-ranked findings."""
+    top = {(f.id, f.horizon) for f in result.findings[:len(truth["expected"])]}
+    assert top == {(item["id"], item["horizon"]) for item in truth["expected"]}
+
+
+def test_correct_picks_and_the_genuine_contact_draw_only_notes_on_the_pick(result, truth):
+    """Nothing above low on a correct pick or the genuine contact from the detectors that judge the pick
+    itself. (overburden findings are about the time map under the canyon, not about the pick.)"""
+    correct = [item["horizon"] for item in truth["correct_picks"] + truth["must_not_be_high"]]
+    unexpected = [f"+{f.id} ({f.horizon}, {f.severity})" for f in result.findings
+                  if f.horizon in correct and f.severity != "low" and f.detector != "overburden"]
+    assert unexpected == []
+
+
+def test_one_finding_per_event_keeps_the_demo_short(result):
+    """The hydrate base and the opal-CT front are each one finding (the flat-event detector's view of them
+    is joined in), and the whole demo draws fewer than two dozen findings."""
+    boundaries = [f for f in result.findings if f.id in ("crosscut.hydrate-like", "crosscut.diagenetic-like")]
+    assert len(boundaries) == 2
+    assert all("contacts" in f.detectors and "crosscut" in f.detectors for f in boundaries)
+    assert len(result.findings) < 24

@@ -3,10 +3,10 @@
 One event, one finding. Two findings describe the same event when they are about the same
 pick (or both about the section alone), their time windows overlap, and their trace ranges
 (inline and crossline ranges on a volume) share at least ``ranking.merge_min_overlap`` of the
-shorter range. Joined findings, strongest first, keep the id, title and advice of the
-strongest (most severe; at equal severity a specific id before a generic one such as
-``contact.unpicked-flat-event``; then the most confident), the largest confidence, the union
-of the ranges, and every member's evidence: the other members' numbers under keys prefixed
+shorter range. Joined findings, strongest first, keep the id, title, advice and confidence of
+the strongest (most severe; at equal severity a specific id before a generic one such as
+``contact.unpicked-flat-event``; then the most confident: another member's confidence is in a
+different claim), the union of the ranges, and every member's evidence: the other members' numbers under keys prefixed
 with their id, their ids in ``evidence["merged_ids"]``, and every detector in ``detectors``.
 
     score = (w_s * s + w_c * confidence + w_e * extent) / (w_s + w_c + w_e)
@@ -115,7 +115,7 @@ def _join(members: Sequence[Finding]) -> Finding:
     evidence["merged_ids"] = merged_ids
     detectors = tuple(sorted({d for m in members for d in (m.detectors or (m.detector,))}))
     advice = lead.advice + " The same event was also found as " + "; ".join(also) + "."
-    return replace(lead, confidence=max(m.confidence for m in members), traces=traces, twt_ms=twt_ms,
+    return replace(lead, traces=traces, twt_ms=twt_ms,
                    inlines=inlines, xlines=xlines, evidence=evidence, advice=advice, detectors=detectors)
 
 
