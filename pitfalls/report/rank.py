@@ -6,7 +6,7 @@ pick (or both about the section alone), their time windows overlap, and their tr
 shorter range. Joined findings, strongest first, keep the id, title, advice and confidence of
 the strongest (most severe; at equal severity a specific id before a generic one such as
 ``contact.unpicked-flat-event``; then the most confident: another member's confidence is in a
-different claim), the union of the ranges, and every member's evidence: the other members' numbers under keys prefixed
+different claim), the union of the ranges (and of the map footprints), and every member's evidence: the other members' numbers under keys prefixed
 with their id, their ids in ``evidence["merged_ids"]``, and every detector in ``detectors``.
 
     score = (w_s * s + w_c * confidence + w_e * extent) / (w_s + w_c + w_e)
@@ -113,10 +113,13 @@ def _join(members: Sequence[Finding]) -> Finding:
         inlines, xlines = _span(inlines, member.inlines), _span(xlines, member.xlines)
         also.append(f"{member.id} ({member.severity}): {member.title}")
     evidence["merged_ids"] = merged_ids
+    boxes = [m.footprint_xy for m in members if getattr(m, "footprint_xy", None) is not None]
+    footprint = (((min(b[0][0] for b in boxes), min(b[0][1] for b in boxes)),
+                  (max(b[1][0] for b in boxes), max(b[1][1] for b in boxes))) if boxes else None)
     detectors = tuple(sorted({d for m in members for d in (m.detectors or (m.detector,))}))
     advice = lead.advice + " The same event was also found as " + "; ".join(also) + "."
-    return replace(lead, traces=traces, twt_ms=twt_ms,
-                   inlines=inlines, xlines=xlines, evidence=evidence, advice=advice, detectors=detectors)
+    return replace(lead, traces=traces, twt_ms=twt_ms, inlines=inlines, xlines=xlines, footprint_xy=footprint,
+                   evidence=evidence, advice=advice, detectors=detectors)
 
 
 def merge_events(findings: Sequence[Finding], min_overlap: float) -> list[Finding]:
