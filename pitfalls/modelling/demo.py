@@ -193,7 +193,7 @@ def build_demo() -> DemoScenario:
     )
     times = modelled.surface_twt_ms
     seafloor_ms = modelled.seafloor_twt_ms
-    multiple_ms = 2.0 * seafloor_ms  # first seafloor multiple, flat-layer rule (REFERENCES item 1)
+    multiple_ms = 2.0 * seafloor_ms  # first seafloor multiple, flat-layer rule (common practice)
     jitter = np.random.default_rng(SEED + 1)
     indices = np.arange(N_TRACES)
 
