@@ -6,5 +6,5 @@
 - ``section``: ``model_section(earth, ...) -> ModelledSection``.
 - ``shapes``: anticline, dipping surface and canyon depth profiles.
 - ``segy_writer``: SEG-Y rev 1 lines and volumes, pick-file CSV, written atomically.
-- ``demo``: the invented Quillon Trough line with planted picking mistakes.
+- ``demo``: the invented Ondravel Trough line with planted picking mistakes.
 """
