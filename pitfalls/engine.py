@@ -65,6 +65,10 @@ class ScanResult:
     detectors: tuple[DetectorRun, ...]
     findings: tuple[Finding, ...]
     seafloor: SeafloorSummary
+    map_view: Any = None
+    """A volume's picks as surfaces (:class:`pitfalls.maps.SurveyView`), for the map figure; None for a line."""
+    coordinates: Any = None
+    """Where the traces lie (:class:`pitfalls.report.geojson.SurveyCoordinates`), for GeoJSON footprints."""
 
     @property
     def failed(self) -> tuple[DetectorRun, ...]:
@@ -147,12 +151,48 @@ def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any]
             progress(len(outcomes), total)
     per_panel = [list(outcome.findings) for outcome in outcomes]
     findings = merge_inlines(per_panel) if info.geometry == "3d" else per_panel[0]
+    map_view = None
+    if info.geometry == "3d":
+        findings, map_view = _map_view(source.layout, placed, outcomes, findings, rules, velocity, selected, errors)
     runs = tuple(DetectorRun(module.NAME, "failed" if module.NAME in errors else "ran", seconds[module.NAME],
                              errors.get(module.NAME, "")) for module in selected)
     return ScanResult(
         section=info, pick_files=tuple(pick_files), picks=_summaries(placed), rules_path=rules_path,
         rules_sha256=rules_sha256, detectors=runs, findings=rank_findings(findings, info, rules["ranking"]),
-        seafloor=_seafloor_summary(outcomes))
+        seafloor=_seafloor_summary(outcomes), map_view=map_view,
+        coordinates=_coordinates(source.layout, map_view))
+
+
+def _coordinates(layout, map_view):
+    """Where the traces lie on the map, for GeoJSON footprints: the fitted grid of a volume, or the
+    CDP X/Y of each trace of a line."""
+    from pitfalls.report.geojson import SurveyCoordinates
+    if map_view is not None:
+        return SurveyCoordinates("3d", grid=map_view.grid, from_headers=map_view.grid.from_headers)
+    trace_x, trace_y = getattr(layout, "trace_x", None), getattr(layout, "trace_y", None)
+    if trace_x is None or trace_y is None:
+        return SurveyCoordinates("2d", trace_numbers=layout.trace_numbers, from_headers=False)
+    return SurveyCoordinates("2d", trace_numbers=layout.trace_numbers, trace_x_m=np.asarray(trace_x, dtype=float),
+                             trace_y_m=np.asarray(trace_y, dtype=float), from_headers=True)
+
+
+def _map_view(layout, placed: PlacedPicks, outcomes: Sequence[PanelOutcome], findings: Sequence[Finding],
+              rules: Mapping[str, Any], velocity: VelocityModel, selected: Sequence[Any],
+              errors: dict[str, str]) -> tuple[list[Finding], Any]:
+    """Judge a volume's picks as surfaces (:mod:`pitfalls.maps`); a failure there is recorded against
+    the detectors whose map-view checks failed, like a detector failure, and the inline findings stand."""
+    from pitfalls import maps
+    names = [module.NAME for module in selected if module.NAME not in errors]
+    texts = {module.NAME: getattr(module, "ADVICE", {}) for module in selected}
+    try:
+        view = maps.survey_view(layout, placed, [outcome.seafloor_twt_ms for outcome in outcomes], velocity,
+                                float(rules["section"]["fallback_trace_spacing_m"]))
+        return maps.apply_map_view(view, findings, rules, names, texts), view
+    except Exception as err:  # the map view must not lose the inline findings
+        for name in names:
+            if name in ("contacts", "multiples", "crosscut"):
+                errors[name] = f"map view: {type(err).__name__}: {' '.join(str(err).split())}"
+        return list(findings), None
 
 
 def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules: Mapping[str, Any],
@@ -163,6 +203,10 @@ def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules
     ``seconds`` (per detector) and ``errors`` (detector name -> one-line message) are updated; a
     detector that has failed once is not run again.
     """
+    panel_rules = rules
+    if geometry == "3d" and block.panels:
+        from pitfalls.maps import inline_rules
+        panel_rules = inline_rules(rules, block.panels[0].n_traces)
     outcomes = []
     for offset, panel in enumerate(block.panels):
         panel_index = block.first_panel + offset
@@ -174,7 +218,7 @@ def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules
                 continue
             started = time.perf_counter()
             try:
-                result = module.detect(panel, context, picks, rules)
+                result = module.detect(panel, context, picks, panel_rules)
             except Exception as err:  # a failing detector must not stop the others
                 where = f" on {panel.name}" if geometry == "3d" else ""
                 errors[module.NAME] = f"{type(err).__name__}{where}: {' '.join(str(err).split())}"
