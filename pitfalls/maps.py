@@ -378,22 +378,23 @@ def survey_view(layout: Any, placed: Any, seafloor_rows: Sequence[np.ndarray], v
     seafloor_rows : sequence of ndarray
         The seafloor time of every inline, in inline order, each (n_xlines,).
     """
-    grid_index = np.asarray(layout.grid)
-    x_m = np.full(grid_index.shape, np.nan)
-    y_m = np.full(grid_index.shape, np.nan)
-    trace_x = getattr(layout, "trace_x", None)
-    trace_y = getattr(layout, "trace_y", None)
-    present = grid_index >= 0
-    if trace_x is not None and trace_y is not None:
-        x_m[present] = np.asarray(trace_x, dtype=float)[grid_index[present]]
-        y_m[present] = np.asarray(trace_y, dtype=float)[grid_index[present]]
-    grid = fit_grid_geometry_from(layout, x_m, y_m, fallback_spacing_m)
+    grid = grid_geometry(layout, fallback_spacing_m)
     horizons = tuple(MappedHorizon(name, kind, np.asarray(times, dtype=float))
                      for name, kind, times in zip(placed.names, placed.kinds, placed.grids))
     return SurveyView(grid, np.vstack([np.asarray(row, dtype=float) for row in seafloor_rows]), horizons, velocity)
 
 
-def fit_grid_geometry_from(layout: Any, x_m: np.ndarray, y_m: np.ndarray, fallback_spacing_m: float) -> GridGeometry:
+def grid_geometry(layout: Any, fallback_spacing_m: float) -> GridGeometry:
+    """The volume's inline/crossline grid fitted to the CDP X/Y of its traces (``layout.trace_x`` and
+    ``trace_y``, scalar applied), or a square grid of the fallback spacing without coordinates."""
+    grid_index = np.asarray(layout.grid)
+    x_m = np.full(grid_index.shape, np.nan)
+    y_m = np.full(grid_index.shape, np.nan)
+    trace_x, trace_y = getattr(layout, "trace_x", None), getattr(layout, "trace_y", None)
+    present = grid_index >= 0
+    if trace_x is not None and trace_y is not None:
+        x_m[present] = np.asarray(trace_x, dtype=float)[grid_index[present]]
+        y_m[present] = np.asarray(trace_y, dtype=float)[grid_index[present]]
     return fit_grid_geometry(np.asarray(layout.inline_numbers), np.asarray(layout.xline_numbers), x_m, y_m,
                              fallback_spacing_m)
 
