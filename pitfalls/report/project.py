@@ -13,7 +13,7 @@ from rich.text import Text
 from pitfalls import __version__
 from pitfalls.project import ProjectResult, SectionOutcome
 from pitfalls.report.json_report import _plain, finding_dict
-from pitfalls.report.text import CAUTION, location, number, time_window
+from pitfalls.report.text import general_caution, location, number, time_window
 
 SCHEMA = "pitfalls-project/1"
 SEVERITIES = ("high", "medium", "low")
@@ -73,7 +73,7 @@ def report_dict(result: ProjectResult) -> dict[str, Any]:
         "summary": {**_counts(result), "sections": len(result.sections),
                     "sections_failed": sum(outcome.status == "failed" for outcome in result.sections),
                     "ties": len(result.ties)},
-        "caution": CAUTION,
+        "caution": general_caution(bool(result.findings)),
     }
 
 
@@ -137,7 +137,7 @@ def render_markdown(result: ProjectResult) -> str:
                       f"{location(f)}, {time_window(f)}; confidence {f.confidence:.2f}, score {f.score:.2f}.", ""]
             lines += [f"- {key}: {number(value)}" for key, value in f.evidence.items()]
             lines += ["", f"**Check:** {f.advice}", ""]
-    lines += ["## Caution", "", CAUTION, ""]
+    lines += ["## Caution", "", general_caution(bool(result.findings)), ""]
     return "\n".join(lines)
 
 
@@ -188,5 +188,5 @@ def render_terminal(result: ProjectResult) -> Group:
         parts.append(findings)
     else:
         parts.append(Text("No pitfalls found by the checks that ran. This is not a clearance of the interpretation."))
-    parts.append(Panel(Text(CAUTION), title="Caution", border_style="magenta"))
+    parts.append(Panel(Text(general_caution(bool(result.findings))), title="Caution", border_style="magenta"))
     return Group(*parts)
