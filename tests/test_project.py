@@ -209,3 +209,21 @@ def test_markdown_and_terminal_name_the_section_of_every_finding(grid):
     assert terminal.index("Sections") < terminal.index("Ties") < terminal.index("Findings across the project")
     assert "QV26-3D.sgy IL 103 XL 301" in terminal and "Caution" in terminal
     assert terminal.count("pick.mis-tie") == 5
+
+
+def test_a_survey_listed_before_a_line_ties_the_same_way(grid, tmp_path):
+    """The survey as section a and the late-picked line as b: the same tie, the residual's sign reversed."""
+    folder = os.path.dirname(grid.project)
+    project = write_project_file(str(tmp_path / "project.yaml"), [
+        (os.path.join(folder, "QV26-3D.sgy"), [os.path.join(folder, "QV26-3D_picks.csv")]),
+        (os.path.join(folder, f"{SKIPPED}.sgy"), [os.path.join(folder, f"{SKIPPED}_picks.csv")]),
+    ])
+    rules, path, sha = load_rules(None, detectors.rule_keys())
+    with LocalRunner(1) as runner:
+        report = report_dict(run_project(read_project(project), rules, path, sha, runner))
+    assert len(report["ties"]) == 1
+    tie = report["ties"][0]
+    assert tie["location_a"] == "IL 103 XL 301" and tie["location_b"] == "tr 16"
+    (finding,) = misties(report)
+    assert finding["horizon"] == "H2" and finding["evidence"]["residual_ms"] == pytest.approx(40.0, abs=4.0)
+    assert finding["evidence"]["explanation"] == "loop" and finding["evidence"]["loops"] == 1
