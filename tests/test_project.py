@@ -117,8 +117,8 @@ def test_report_layout(report):
     assert all(s["status"] == "ran" and s["error"] is None for s in report["sections"])
     assert [f["rank"] for f in report["findings"]] == list(range(1, len(report["findings"]) + 1))
     assert all(f["section"] in {s["path"] for s in report["sections"]} for f in report["findings"])
-    scores = [f["score"] for f in report["findings"]]
-    assert scores == sorted(scores, reverse=True)
+    order = [({"high": 0, "medium": 1, "low": 2}[f["severity"]], -f["score"]) for f in report["findings"]]
+    assert order == sorted(order)  # severity first, then score
     assert report["summary"]["high"] == sum(f["severity"] == "high" for f in report["findings"])
 
 
