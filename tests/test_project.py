@@ -227,3 +227,16 @@ def test_a_survey_listed_before_a_line_ties_the_same_way(grid, tmp_path):
     (finding,) = misties(report)
     assert finding["horizon"] == "H2" and finding["evidence"]["residual_ms"] == pytest.approx(40.0, abs=4.0)
     assert finding["evidence"]["explanation"] == "loop" and finding["evidence"]["loops"] == 1
+
+
+def test_the_caution_states_scope_and_that_no_finding_is_no_clearance(grid, tmp_path):
+    """A project whose one line has no picks finds nothing: the report says this is not a clearance."""
+    folder = os.path.dirname(grid.project)
+    project = write_project_file(str(tmp_path / "project.yaml"), [(os.path.join(folder, "QV26-101.sgy"), [])])
+    rules, path, sha = load_rules(None, detectors.rule_keys())
+    with LocalRunner(1) as runner:
+        result = run_project(read_project(project), rules, path, sha, runner)
+    report = report_dict(result)
+    assert report["findings"] == []
+    assert "does not replace review" in report["caution"] and "marine post-stack" in report["caution"]
+    assert "not a clearance" in report["caution"] and "not a clearance" in render_markdown(result)
