@@ -4,7 +4,7 @@ The Python interface, for notebooks and pipelines. The command line is a thin la
 both give the same report for the same inputs.
 
 >>> import pitfalls
->>> report = pitfalls.scan("demo_data/QT24-117.sgy", picks="demo_data/QT24-117_picks.csv")  # doctest: +SKIP
+>>> report = pitfalls.scan("demo_data/OT25-117.sgy", picks="demo_data/OT25-117_picks.csv")  # doctest: +SKIP
 >>> report.passes(gate="high")  # doctest: +SKIP
 False
 
@@ -41,6 +41,7 @@ __all__ = [
     "Finding",
     "PitfallsInputError",
     "GATES",
+    "default_jobs",
 ]
 
 GATES = ("high", "medium", "low", "off")
@@ -316,7 +317,7 @@ class Report:
     def _repr_html_(self) -> str:
         import html
 
-        from pitfalls.report.text import CAUTION, location, time_window
+        from pitfalls.report.text import NO_FINDINGS, caution_text, location, time_window
         info = self.section
         counts = self.summary
         rows = []
@@ -328,10 +329,10 @@ class Report:
                          "This scan is incomplete.</p>" for run in self.failed)
         table = ("<table><thead><tr>" + "".join(f"<th>{name}</th>" for name in (
             "#", "severity", "id", "horizon", "where", "twt", "confidence", "what")) + "</tr></thead><tbody>"
-                 + "".join(rows) + "</tbody></table>") if rows else "<p>No pitfalls found by the detectors that ran.</p>"
+                 + "".join(rows) + "</tbody></table>") if rows else f"<p>{html.escape(NO_FINDINGS)}</p>"
         return (f"<div><p><strong>pitfalls scan</strong> of {html.escape(info.path)} "
                 f"({info.geometry.upper()}, {info.n_traces} traces): {counts['high']} high, {counts['medium']} medium, "
-                f"{counts['low']} low</p>{failed}{table}<p><em>{html.escape(CAUTION)}</em></p></div>")
+                f"{counts['low']} low</p>{failed}{table}<p><em>{html.escape(caution_text(self._result))}</em></p></div>")
 
     def __repr__(self) -> str:
         counts = self.summary
@@ -425,7 +426,9 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
     only : str or sequence of str, optional
         Run only these detectors (``"multiples,contacts"`` or a list); all when None.
     jobs : int, optional
-        Worker processes for the scan; None lets the engine choose.
+        Worker processes for the blocks of a volume; the report is the same for any number.
+        None: one per available core for a file, 1 for an array (each worker process would
+        need its own copy of the array).
     dt_ms, t0_ms : float
         For an array: the sample interval (required) and the time of the first sample
         (default 0), in ms.
@@ -446,7 +449,7 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
     force_2d : bool
         For a SEG-Y file: read it as a line in trace order.
     progress : callable, optional
-        Called as ``progress(done, total)`` as the scan goes.
+        Called after every block as ``progress(panels_done, panels_total, samples_done)``.
 
     Returns
     -------
@@ -501,8 +504,21 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
         with SeismicFile(source, values["section"]["fallback_trace_spacing_m"], iline_byte or DEFAULT_INLINE_BYTE,
                          xline_byte or DEFAULT_XLINE_BYTE, force_2d) as seismic:
             result = engine.scan_source(seismic, pick_files, values, active.path, active.sha256, detectors,
-                                        progress=progress, jobs=jobs)
+                                        progress=progress, jobs=default_jobs() if jobs is None else jobs)
         return Report(result, active)
     result = engine.scan_source(source, pick_files, values, active.path, active.sha256, detectors, progress=progress,
-                                jobs=jobs)
+                                jobs=1 if jobs is None else jobs)
     return Report(result, active, source)
+
+
+def default_jobs() -> int:
+    """Worker processes a scan of a file uses unless told: one per core this process may use.
+
+    Returns
+    -------
+    int
+    """
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # platforms without CPU affinity
+        return max(1, os.cpu_count() or 1)

@@ -49,6 +49,13 @@ def build_parser() -> argparse.ArgumentParser:
     scan.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
     scan.add_argument("--annotated-picks", metavar="FILE.csv", help="write the pick rows back with their findings")
     scan.add_argument("--figure", metavar="FILE.png", help="draw the section, picks and findings (needs matplotlib)")
+    scan.add_argument("--figure-colours", metavar="NAME",
+                      help="matplotlib colour map for the section in --figure (default gray_r: grey, the seafloor "
+                           "reflection's sign dark)")
+    scan.add_argument("--map", metavar="FILE.png",
+                      help="3-D: draw each horizon's time map with the findings' footprints (needs matplotlib)")
+    scan.add_argument("--geojson", metavar="FILE",
+                      help="write the findings' footprints as GeoJSON in the survey's CDP X/Y")
     scan.add_argument("--accepted", metavar="FILE.yaml",
                       help="findings a reviewer accepted (fingerprint, reason, by, date): shown as accepted, not gated")
     scan.add_argument("--write-accepted", metavar="FILE.yaml",
@@ -140,12 +147,19 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.accepted:
         from pitfalls.io.accepted import read_accepted
         accepted = read_accepted(args.accepted)
-    for target in (args.output, args.annotated_picks, args.figure, args.write_accepted):
-        if target and os.path.abspath(target) in {os.path.abspath(p) for p in [args.section, *args.picks, *([args.accepted] if args.accepted else [])]}:
+    inputs = {os.path.abspath(p) for p in [args.section, *args.picks, *([args.accepted] if args.accepted else [])]}
+    for target in (args.output, args.annotated_picks, args.figure, args.map, args.geojson, args.write_accepted):
+        if target and os.path.abspath(target) in inputs:
             raise PitfallsInputError(target, "", "is one of the input files", "write the output somewhere else; inputs are never changed")
-    if args.figure:
+    if args.figure or args.map:
         from pitfalls.report.figure import require_matplotlib
         require_matplotlib()
+    if args.figure_colours and not args.figure:
+        raise PitfallsInputError("--figure-colours", "", "colours a figure, but no --figure was asked for",
+                                 "add --figure FILE.png, or leave out --figure-colours")
+    if args.figure_colours:
+        from pitfalls.report.figure import check_colour_map
+        check_colour_map(args.figure_colours)
     jobs = _jobs(args.jobs)
     options = dict(only=only, iline_byte=args.iline_byte or 189, xline_byte=args.xline_byte or 193,
                    force_2d=args.force_2d, jobs=jobs)
@@ -167,8 +181,22 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
         from pitfalls.report.annotated import render as render_annotated
         write_atomically(args.annotated_picks, render_annotated(result))
     if args.figure:
-        from pitfalls.report.figure import draw
-        write_atomically(args.figure, draw(result, rules))
+        from pitfalls.report.figure import DEFAULT_COLOUR_MAP, draw
+        write_atomically(args.figure, draw(result, rules, colour_map=args.figure_colours or DEFAULT_COLOUR_MAP))
+    if args.map:
+        if result.map_view is None:
+            raise PitfallsInputError("--map", "", f"{args.section} is a 2-D line; a map needs a 3-D volume",
+                                     "use --figure for a line")
+        from pitfalls.report.map_figure import draw_map
+        write_atomically(args.map, draw_map(result))
+    if args.geojson:
+        from pitfalls.report.geojson import feature_collection
+        if result.coordinates is None or not result.coordinates.from_headers:
+            raise PitfallsInputError(args.section, "trace header bytes 181/185",
+                                     "hold no CDP X/Y coordinates, so the findings have no place on a map",
+                                     "write the coordinates into the SEG-Y headers, or leave out --geojson")
+        collection = feature_collection(result.findings, result.coordinates, args.section)
+        write_atomically(args.geojson, json.dumps(collection, indent=1) + "\n")
     if result.failed or result.reaches(args.gate):
         return EXIT_FINDINGS
     return EXIT_OK

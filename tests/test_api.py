@@ -20,8 +20,8 @@ from pitfalls.modelling.section import model_section
 from pitfalls.modelling.segy_writer import write_picks_csv, write_section_segy, write_volume_segy
 
 ROOT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
-DEMO_SEGY = os.path.join(ROOT, "demo_data", "QT24-117.sgy")
-DEMO_PICKS = os.path.join(ROOT, "demo_data", "QT24-117_picks.csv")
+DEMO_SEGY = os.path.join(ROOT, "demo_data", "OT25-117.sgy")
+DEMO_PICKS = os.path.join(ROOT, "demo_data", "OT25-117_picks.csv")
 
 
 def run_cli(*args, cwd=None):
@@ -365,7 +365,7 @@ def test_html_lists_every_finding_in_rank_order_and_the_caution(demo_report):
     page = demo_report._repr_html_()
     rows = re.findall(r"<tr><td>(\d+)</td><td>(\w+)</td><td>([a-z0-9.-]+)</td>", page)
     assert rows == [(str(f.rank), f.severity, f.id) for f in demo_report.findings]
-    assert "does not replace review" in page and "QT24-117.sgy" in page
+    assert "does not replace review" in page and "OT25-117.sgy" in page
 
 
 def test_figure_is_a_matplotlib_figure_of_an_array(line):
@@ -402,7 +402,7 @@ def test_readme_examples_run(volume, tmp_path, monkeypatch, capsys):
     monkeypatch.chdir(ROOT)
     exec(compile(on_demo, "README example on the demo files", "exec"), {})
     printed = capsys.readouterr().out
-    assert "<pitfalls.Report demo_data/QT24-117.sgy:" in printed and "What to check:" in printed
+    assert "<pitfalls.Report demo_data/OT25-117.sgy:" in printed and "What to check:" in printed
     assert "a high finding: look before the hand-over" in printed
     # the volume example names survey.sgy: give it the modelled volume under that name
     shutil.copyfile(volume["segy"], tmp_path / "survey.sgy")
@@ -411,3 +411,21 @@ def test_readme_examples_run(volume, tmp_path, monkeypatch, capsys):
     printed = capsys.readouterr().out
     assert printed.startswith("# pitfalls scan") and "(in memory) (3D, 3 inlines x 40 crosslines" in printed
     assert "Rules: rules mapping" in printed
+
+
+def test_array_volume_in_worker_processes_matches_one_process(volume):
+    """The array source pickles into worker processes; any number of them gives the same report."""
+    import pickle
+
+    from pitfalls import engine
+    from pitfalls.io.array import ArraySource
+    from pitfalls.io.picks import read_pick_file
+    rules = pitfalls.load_rules()
+    source = ArraySource(volume["data"], dt_ms=DT_MS, fallback_spacing_m=12.5, inline_numbers=volume["inlines"],
+                         xline_numbers=volume["xlines"])
+    copy = pickle.loads(pickle.dumps(source.reader()))
+    np.testing.assert_array_equal(copy.read_block(1, 3).panels[1].data, source.read_block(1, 3).panels[1].data)
+    picks = [read_pick_file(volume["picks"])]
+    runs = [engine.scan_source(source, picks, rules.to_dict(), rules.path, rules.sha256, engine.select_detectors(None),
+                               jobs=jobs, inlines_per_block=1) for jobs in (1, 2)]
+    assert [f.rank for f in runs[0].findings] and runs[0].findings == runs[1].findings

@@ -2,8 +2,9 @@
 
 Some strong reflectors are not bedding but a boundary set by temperature and pressure: the
 base of gas-hydrate stability (hydrate-bearing sediment over free gas) or a diagenetic front
-such as the opal-A to opal-CT change. They follow isotherms, so they keep a nearly constant
-time below the seafloor and cut across the layering. Read as stratigraphy they make false
+such as the opal-A to opal-CT change. The front follows an isotherm; the hydrate base follows a
+pressure-temperature boundary and lies deeper below the seafloor where the water is deeper. Both
+keep a nearly constant time below the seafloor and cut across the layering. Read as stratigraphy they make false
 unconformities and false closures, and a horizon that slides onto one is miscorrelated.
 
 Seafloor-parallel events. The panel is mapped to two-way time below the seafloor, where such
@@ -146,8 +147,8 @@ FAMILY = "crosscut"
 KINDS = {
     "hydrate-like": (
         "A coherent event keeps a near-constant time below the seafloor, cuts the dipping strata and has the reverse polarity of the seafloor.",
-        "It looks like the base of gas-hydrate stability (hydrate over free gas), not bedding: mapped as a horizon it makes false unconformities and closures.",
-        "Compare its depth with the predicted stability base and the gradient in the evidence; look for brighter reflections and dimming below it; do not correlate strata along it.",
+        "It looks like the base of gas-hydrate stability (hydrate over free gas), a pressure-temperature boundary that lies deeper below the seafloor where the water is deeper, not bedding: mapped as a horizon it makes false unconformities and closures.",
+        "Compare its depth with the predicted stability base and the gradient in the evidence; look for bright free-gas reflections and attenuation below it and blanking above it; do not correlate strata along it.",
     ),
     "diagenetic-like": (
         "A coherent event keeps a near-constant time below the seafloor, cuts the dipping strata and has the same polarity as the seafloor.",
@@ -156,7 +157,7 @@ KINDS = {
     ),
     "pick-follows-boundary": (
         "A picked horizon leaves the strata and runs along a seafloor-parallel event that cuts across them.",
-        "The horizon is miscorrelated from that trace on: maps, thicknesses and closures built on it follow a temperature boundary, not a bed.",
+        "The horizon is miscorrelated from that trace on: maps, thicknesses and closures built on it follow a pressure- or temperature-set boundary, not a bed.",
         "Go to the trace named in the evidence, follow the original reflection across the boundary and re-pick it; keep the boundary as a separate surface if it matters.",
     ),
     "pick.crosses-reflections": (
@@ -297,7 +298,7 @@ def _without_picked_contacts(search: EventSearch, seafloor: Seafloor, picks: Pic
 
 def _is_peg_leg(event: SeafloorParallelEvent, parent: SeafloorParallelEvent, seafloor_twt_ms: np.ndarray,
                 half_width_ms: float) -> bool:
-    """True when most of ``event`` lies one seafloor time below ``parent`` (t_r + t_sf, REFERENCES item 1)."""
+    """True when most of ``event`` lies one seafloor time below ``parent`` (t_r + t_sf, Backus 1959)."""
     shared, in_event, in_parent = np.intersect1d(event.trace_index, parent.trace_index, return_indices=True)
     if shared.size < 0.5 * event.trace_index.size or half_width_ms <= 0:
         return False
@@ -371,10 +372,10 @@ def _event_finding(event: SeafloorParallelEvent, section: Section, seafloor: Sea
         confidence += 0.25
     first, last = int(traces[0]), int(traces[-1])
     absolute = seafloor_twt + below_ms
-    polarity_words = "reversed" if polarity < 0 else "the same"
+    polarity_words = "the opposite polarity to" if polarity < 0 else "the same polarity as"
     title = (f"Event {median_below_ms:.0f} ms below the seafloor over traces {section.trace_numbers[first]}-"
-             f"{section.trace_numbers[last]} cuts the strata at {angle_deg:.1f} deg with {polarity_words} polarity "
-             f"to the seafloor")
+             f"{section.trace_numbers[last]} cuts the strata at {angle_deg:.1f} deg with {polarity_words} "
+             f"the seafloor")
     return Finding(
         id=f"{FAMILY}.{kind}",
         detector=NAME,

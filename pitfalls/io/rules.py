@@ -85,6 +85,12 @@ CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
         # Share of the shorter range two findings must share to be one event (1 = only nested ranges).
         "merge_min_overlap": (float, 0.0, 1.0),
     },
+    "maps": {
+        "min_boundary_inlines": (int, 1, 100000),
+        "inline_extent_share": (float, 0.05, 1.0),
+        "conformable_max_residual_share": (float, 0.0, 1.0),
+        "conformable_min_relief_m": (float, 0.0, 10000.0),
+    },
     "describe": {
         # `pitfalls describe` (see pitfalls/describe.py); lengths in dominant periods.
         "guard_periods": (float, 0.0, 5.0),

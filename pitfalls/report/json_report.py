@@ -11,7 +11,7 @@ from typing import Any
 from pitfalls import __version__
 from pitfalls.engine import ScanResult
 from pitfalls.model import Finding
-from pitfalls.report.text import CAUTION
+from pitfalls.report.text import caution_text
 
 SCHEMA = "pitfalls-report/1"
 
@@ -80,5 +80,5 @@ def report_dict(result: ScanResult) -> dict[str, Any]:
                        for severity in ("high", "medium", "low")},
                     "accepted": sum(1 for f in result.findings if f.accepted is not None)},
         "stale_accepted": [_plain(dict(entry)) for entry in result.stale_accepted],
-        "caution": CAUTION,
+        "caution": caution_text(result),
     }

@@ -2,7 +2,16 @@
 from __future__ import annotations
 
 from pitfalls.engine import ScanResult
-from pitfalls.report.text import CAUTION, location, number, section_lines, split_evidence, time_window, worst_by_horizon
+from pitfalls.report.text import (
+    NO_FINDINGS,
+    caution_text,
+    location,
+    number,
+    section_lines,
+    split_evidence,
+    time_window,
+    worst_by_horizon,
+)
 
 
 def _cell(text: str) -> str:
@@ -28,7 +37,7 @@ def render(result: ScanResult) -> str:
         lines.append(f"| {_cell(pick.horizon)} | {pick.kind} | {pick.n_points} | {pick.n_gaps} | {count} | {label} |")
     lines += ["", "## Findings", ""]
     if not result.findings:
-        lines += ["No pitfalls found by the detectors that ran.", ""]
+        lines += [f"**{NO_FINDINGS}**", ""]
     else:
         lines += ["| # | severity | id | horizon | where | twt | confidence | what |", "|---:|---|---|---|---|---|---:|---|"]
         for f in result.findings:
@@ -48,5 +57,5 @@ def render(result: ScanResult) -> str:
                 lines += ["", "Limits and assumptions from the rules (not measured): "
                           + ", ".join(f"{key} {number(value)}" for key, value in limits)]
             lines += ["", f"**Check:** {f.advice}", ""]
-    lines += ["## Caution", "", CAUTION, ""]
+    lines += ["## Caution", "", caution_text(result), ""]
     return "\n".join(lines)

@@ -1,4 +1,4 @@
-"""Joins the findings that describe one event, then scores and ranks them across detectors.
+"""Joins the findings that describe one event, then ranks them across detectors: severity first, then score.
 
 One event, one finding. Two findings describe the same event when they are about the same
 pick (or both about the section alone), their time windows overlap, and their trace ranges
@@ -6,20 +6,27 @@ pick (or both about the section alone), their time windows overlap, and their tr
 shorter range. Joined findings, strongest first, keep the id, title, advice and confidence of
 the strongest (most severe; at equal severity a specific id before a generic one such as
 ``contact.unpicked-flat-event``; then the most confident: another member's confidence is in a
-different claim), the union of the ranges (and of the map footprints), and every member's evidence: the other members' numbers under keys prefixed
-with their id, their ids in ``evidence["merged_ids"]``, and every detector in ``detectors``.
+different claim), the union of the ranges (and of the map footprints), and every member's
+evidence: the other members' numbers under keys prefixed with their id, their ids in
+``evidence["merged_ids"]``, and every detector in ``detectors``.
 
-    score = (w_s * s + w_c * confidence + w_e * extent) / (w_s + w_c + w_e)
+Every high finding comes before every medium one, and every medium before every low one.
+Within one severity the findings are ordered by
 
-``s`` is 1.0, 0.6 or 0.25 for high, medium or low severity; ``extent`` is the fraction of
-the section's traces (2-D) or inline x crossline positions (3-D) the finding covers, 0 for
-a finding with no range. The weights are ``ranking.weight_*`` in the rules.
+    score = w_s * s + w_c * confidence + w_e * extent
+
+with the weights ``ranking.weight_*`` of the rules scaled to sum to 1 (the defaults 0.6, 0.3
+and 0.1 already do), ``s`` 1.0, 0.6 or 0.25 for high, medium or low severity, and ``extent``
+the fraction of the section's traces (2-D) or inline x crossline positions (3-D) the finding
+covers, 0 for a finding with no range. The score keeps ``s`` so that it also reads as one
+number on its own, in [0, 1].
 
 Findings with a confidence below ``ranking.min_confidence`` are dropped first. Then, in
-score order, a horizon's k-th finding (k = 0 for its best) has its score multiplied
-by ``ranking.repeat_factor`` ** k, so that the top of the report covers different picks
-before it repeats one; findings with no horizon are not discounted. Ties are broken by
-severity, id, horizon and first trace, so the same findings always come in the same order.
+rank order, a horizon's k-th finding (k = 0 for its first) has its score multiplied by
+``ranking.repeat_factor`` ** k, so that within a severity the top of the report covers
+different picks before it repeats one; findings with no horizon are not discounted. Ties
+are broken by id, horizon and first trace, so the same findings always come in the same
+order.
 
 Every finding gets a ``fingerprint``: a short hash of its id, its horizon and its place among
 the findings with that id on that horizon in trace order. It stays the same between runs and
@@ -165,14 +172,15 @@ def with_fingerprints(findings: Sequence[Finding]) -> list[Finding]:
 
 # --- ranking ----------------------------------------------------------------------------------
 def rank_findings(findings: Sequence[Finding], info: SectionInfo, ranking: Mapping[str, Any]) -> tuple[Finding, ...]:
-    """Findings joined per event, with ``score``, ``rank`` and ``fingerprint`` set, best first."""
+    """Findings joined per event, with ``score``, ``rank`` and ``fingerprint`` set: severity first, then score
+    (see the module docstring)."""
     believed = [f for f in findings if f.confidence >= ranking["min_confidence"]]
     joined = merge_events(believed, float(ranking.get("merge_min_overlap", 0.5)))
     scored = [replace(f, score=score(f, info, ranking)) for f in with_fingerprints(joined)]
 
     def order(finding: Finding) -> tuple:
         first = finding.traces[0] if finding.traces else (finding.inlines[0] if finding.inlines else 0)
-        return (-round(finding.score, 12), SEVERITY_ORDER[finding.severity], finding.id,
+        return (SEVERITY_ORDER[finding.severity], -round(finding.score, 12), finding.id,
                 finding.horizon or "", first)
 
     seen: dict[str, int] = {}
