@@ -485,14 +485,10 @@ class LineScore:
 
 def judge(line: FamilyLine, findings: Sequence[Finding]) -> LineScore:
     """Recall and false alarms of ``findings`` on ``line`` (severity medium or above counts)."""
-    strong = [f for f in findings if f.severity in ("high", "medium") and not _is_accepted(f)]
+    strong = [f for f in findings if f.severity in ("high", "medium") and f.accepted is None]
     found = sum(1 for item in line.planted if any(matches(f, item) for f in strong))
     # A finding on a planted mistake describes it, whatever its id; one on a real event only under the ids
     # that name that event (a picked contact called a diagenetic boundary is a false alarm).
     false_alarms = tuple(f for f in strong if not any(matches(f, item, any_id=True) for item in line.planted)
                          and not any(matches(f, item) for item in line.real_events))
     return LineScore(found, len(line.planted), false_alarms)
-
-
-def _is_accepted(finding: Finding) -> bool:
-    return bool(getattr(finding, "accepted", None))
