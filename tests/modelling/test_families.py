@@ -56,3 +56,16 @@ def test_family_line_planted_found_and_no_high_false_alarm(family, rules, tmp_pa
     score = judge(line, result.findings)
     assert score.found == score.planted, [(f.id, f.horizon, f.traces, f.severity) for f in result.findings]
     assert not [f for f in score.false_alarms if f.severity == "high"], score.false_alarms
+
+
+def test_jump_onto_a_hydrate_base_under_draping_strata_is_caught(rules, tmp_path):
+    """Line 5 of the hydrate family: the base lies under one draping bed, so the strata above it run with
+    it, and the bed the pick follows reaches it from below at a cutting angle. The drape rule would clear
+    the pick; the pick turned onto the base from a cutting path, so it is still a boundary jump. This line
+    fails when that waiver is switched off."""
+    line = draw_line("hydrate-jump", SEED, 5)
+    segy, picks = write_line(line, tmp_path)
+    result = scan(str(segy), [str(picks)], *rules, only=["crosscut"])
+    (planted,) = line.planted
+    assert any(f.id == "crosscut.pick-follows-boundary" and f.severity == "high" and matches(f, planted)
+               for f in result.findings)
