@@ -106,6 +106,32 @@ def test_genuine_flat_contact_gives_nothing_above_low():
     assert ids(findings) <= {"contact.unpicked-flat-event"}
 
 
+def test_gas_pull_down_under_a_lopsided_trap_is_not_a_tilt():
+    """A trap steep on one flank (half relief 25 traces from the crest) and gentle on the other (90): the
+    gas column above the level contact is thickest near the steep side, so the slow gas (600 m/s less than
+    the 2000 m/s the rules know) sags the contact's depth into a lopsided bowl that a line fitted through it
+    reads as a tilt. Between its two ends, where the column thins to nothing, the contact is level: no
+    tilt finding above low, while the fitted line in the evidence shows what the bowl alone would give."""
+    half_width = np.where(np.arange(N_TRACES) < CREST_TRACE, 25.0, 90.0)
+    def lopsided(crest_m):
+        offset = (np.arange(N_TRACES) - CREST_TRACE) / half_width
+        return crest_m + 150.0 * (1.0 - np.exp2(-(offset ** 2)))
+    seafloor = np.full(N_TRACES, 600.0)
+    units = [Unit("overburden", seafloor.copy(), SEDIMENT_VELOCITY_M_S, 2000.0)]
+    for k, crest_m in enumerate((900.0, 950.0, 1000.0, 1050.0)):
+        units.append(Unit(f"bed{k}", lopsided(crest_m), SEDIMENT_VELOCITY_M_S, (2150.0, 2000.0)[k % 2]))
+    units.append(Unit("reservoir", lopsided(1100.0), SEDIMENT_VELOCITY_M_S, 2150.0))
+    units.append(Unit("deep0", lopsided(1200.0), SEDIMENT_VELOCITY_M_S, 2000.0))
+    gas = Overprint("gwc", "gas", np.full(N_TRACES, 1160.0), -600.0, units=("reservoir",))
+    model = model_section(EarthModel(WATER_VELOCITY_M_S, seafloor, tuple(units), (gas,)), dt_ms=4.0,
+                          n_samples=390, snr=8.0, seed=1, name="lopsided trap")
+    findings = run_detector(contacts, model.section, interpreted(model), load_rules())
+    tilts = [f for f in findings if f.id in ("contact.tilted", "contact.overburden-tilt")]
+    assert all(f.severity == "low" for f in tilts), [(f.id, f.severity, f.evidence) for f in tilts]
+    for f in tilts:
+        assert abs(f.evidence["depth_tilt_m_per_km"]) < abs(f.evidence["depth_tilt_fit_m_per_km"])
+
+
 def test_polarity_is_judged_against_the_seafloor():
     """The whole section flipped (the other display convention) leaves the genuine contact clean."""
     model = modelled("clean", polarity=-1)
