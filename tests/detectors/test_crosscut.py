@@ -206,6 +206,19 @@ def test_pick_across_beds_without_a_boundary(rules):
     # beds rise 0.8 m/trace, the seafloor (and the pick) deepens 0.6 m/trace: atan(1.4 / 12.5) = 6.4 deg
     assert longest.evidence["departure_deg_median"] == pytest.approx(6.4, abs=1.5)
     assert longest.evidence["semblance_along_pick"] < crosscut_rule("min_semblance")
+    assert longest.severity == "medium" and longest.evidence["keeps_phase"] is False
+
+
+def test_pick_that_keeps_its_phase_is_only_a_note(rules):
+    """The same run judged with pick_phase_share at 0.5, so that any pick counts as keeping one phase: a pick
+    that keeps its phase follows its reflection, and the dip it disagrees with belongs to a crossing event,
+    so the run is capped at low (the cap is live: without it the run stays medium)."""
+    model = modelled(None)
+    picks = Picks((Horizon("Flat", "horizon", model.seafloor_twt_ms + 300.0),))
+    lenient = {**rules, "crosscut": {**rules["crosscut"], "pick_phase_share": 0.5}}
+    findings = run_detector(crosscut, model.section, picks, lenient)
+    longest = max(findings, key=lambda finding: finding.traces[1] - finding.traces[0])
+    assert longest.evidence["keeps_phase"] is True and longest.severity == "low"
 
 
 # --- clean cases ---------------------------------------------------------------------------
