@@ -330,3 +330,55 @@ def _check_combinations(path: str, rules: Mapping[str, Mapping[str, Any]], is_de
     if weights and sum(ranking[name] for name in weights) <= 0.0:
         raise PitfallsInputError(path, "ranking", "all ranking weights are zero, so no finding could be scored",
                                  fix=_default_fix(is_default, "give at least one weight a value above 0"))
+
+
+def load_rules_mapping(overrides: Mapping[str, Any], detector_keys: Mapping[str, Mapping[str, KeySpec]],
+                       label: str = "rules mapping",
+                       defaults_path: str | pathlib.Path | None = None) -> tuple[dict, str, str]:
+    """Defaults merged with overrides given as a nested mapping instead of a file.
+
+    The overrides pass the same checks as a user rules file. A top-level key may also be a
+    dotted ``section.key``. ``label`` stands for the file name in messages and reports; the
+    checksum is the SHA-256 of the checked overrides written as YAML by :func:`render_rules`,
+    so a file holding that text gives the same checksum.
+
+    Raises
+    ------
+    PitfallsInputError
+        Naming ``label`` and the dotted key, as for a rules file.
+    """
+    rules, _, _ = load_rules(None, detector_keys, defaults_path)
+    schema: dict[str, Mapping[str, KeySpec]] = {**CORE_KEYS, **detector_keys}
+    if not isinstance(overrides, Mapping):
+        raise PitfallsInputError(label, "", f"is {_describe(overrides)}, not a mapping of rules sections",
+                                 fix="give a dict such as {'velocity': {'water_velocity_m_s': 1480.0}}, a rules "
+                                     "file path, or None for the defaults")
+    document: dict[str, Any] = {}
+    for name, values in overrides.items():
+        section, dot, key = str(name).partition(".") if isinstance(name, str) else (name, "", "")
+        if dot:
+            target = document.setdefault(section, {})
+            if not isinstance(target, dict):
+                raise PitfallsInputError(label, str(name), f"section '{section}' is given twice, once whole and "
+                                         "once as a dotted key", fix="give each section one way")
+            target[key] = _plain_value(values)
+        elif section in document:
+            raise PitfallsInputError(label, str(name), f"section '{section}' is given twice, once whole and "
+                                     "once as a dotted key", fix="give each section one way")
+        else:
+            document[section] = _plain_value(values)
+    checked = _checked(label, document, schema, is_default=False)
+    for section, values in checked.items():
+        rules[section].update(values)
+    _check_combinations(label, rules, is_default=False)
+    text = render_rules({section: values for section, values in checked.items()})
+    return rules, label, hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def _plain_value(value: Any) -> Any:
+    """Mappings as dicts and numpy scalars as Python numbers, so they are checked like YAML values."""
+    if isinstance(value, Mapping):
+        return {key: _plain_value(item) for key, item in value.items()}
+    if type(value).__module__ == "numpy" and hasattr(value, "item"):
+        return value.item()
+    return value
