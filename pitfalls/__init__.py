@@ -500,7 +500,8 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
         with SeismicFile(source, values["section"]["fallback_trace_spacing_m"], iline_byte or DEFAULT_INLINE_BYTE,
                          xline_byte or DEFAULT_XLINE_BYTE, force_2d) as seismic:
             result = engine.scan_source(seismic, pick_files, values, active.path, active.sha256, detectors,
-                                        progress=progress)
+                                        progress=progress, jobs=jobs)
         return Report(result, active)
-    result = engine.scan_source(source, pick_files, values, active.path, active.sha256, detectors, progress=progress)
+    result = engine.scan_source(source, pick_files, values, active.path, active.sha256, detectors, progress=progress,
+                                jobs=jobs)
     return Report(result, active, source)
