@@ -165,7 +165,9 @@ def describe_panel(section: Section, picks: Picks, settings: DescribeSettings, v
         parts.samples += int(mask.sum())
         points = measure.reflection_points(data, mask, settings.point_fraction * float(np.nanmedian(rms)))
         parts.lengths.append(measure.segment_lengths(data, points, dips.dip_samples_per_trace))
-        mid_depth_m = float(velocity.depth_below_seafloor_m(np.nanmedian((top + base) / 2 - seafloor_twt_ms)))
+        below_seafloor = (top + base)[present] / 2 - seafloor_twt_ms[present]
+        below_seafloor = below_seafloor[np.isfinite(below_seafloor)]
+        mid_depth_m = float(velocity.depth_below_seafloor_m(np.median(below_seafloor))) if below_seafloor.size else 0.0
         velocity_m_s = float(velocity.interval_velocity_m_s(mid_depth_m))
         angle = measure.dip_angle_deg(dip_ms, velocity_m_s, section.trace_spacing_m)
         thickness = (base - top)[:, np.newaxis]

@@ -39,6 +39,7 @@ def test_json_is_one_document_valid_against_the_schema(files):
     assert document["intervals"][1]["configuration"]["class"] == "parallel"
     assert document["intervals"][1]["traces"] == [1, N_TRACES]
     assert document["caution"]
+    assert document["rules"]["path"] == "built-in defaults" and len(document["rules"]["sha256"]) == 64
 
 
 def test_markdown_and_terminal(files, tmp_path):
