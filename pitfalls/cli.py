@@ -49,6 +49,10 @@ def build_parser() -> argparse.ArgumentParser:
     scan.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
     scan.add_argument("--annotated-picks", metavar="FILE.csv", help="write the pick rows back with their findings")
     scan.add_argument("--figure", metavar="FILE.png", help="draw the section, picks and findings (needs matplotlib)")
+    scan.add_argument("--map", metavar="FILE.png",
+                      help="3-D: draw each horizon's time map with the findings' footprints (needs matplotlib)")
+    scan.add_argument("--geojson", metavar="FILE",
+                      help="write the findings' footprints as GeoJSON in the survey's CDP X/Y")
     scan.add_argument("--gate", choices=("high", "medium", "low", "off"), default="high",
                       help="exit 1 when a finding is at least this severe (default high; off: only a failed "
                            "detector exits 1)")
@@ -70,6 +74,18 @@ def build_parser() -> argparse.ArgumentParser:
     describe.add_argument("--iline-byte", type=int, metavar="N", help="trace-header byte of the inline number (default 189)")
     describe.add_argument("--xline-byte", type=int, metavar="N", help="trace-header byte of the crossline number (default 193)")
     describe.add_argument("--2d", dest="force_2d", action="store_true", help="read the file as a 2-D line in trace order")
+
+    project = commands.add_parser("project", help="scan every section of a project file and tie them where they cross")
+    project.add_argument("project", metavar="PROJECT.yaml", help="project file listing the sections and their picks")
+    project.add_argument("--format", choices=("terminal", "json", "markdown"), default="terminal")
+    project.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
+    project.add_argument("--gate", choices=("high", "medium", "low", "off"), default="high",
+                         help="exit 1 when a finding is at least this severe (default high; off never fails on findings)")
+    project.add_argument("--jobs", type=int, default=os.cpu_count() or 1, metavar="N",
+                         help="worker processes, or Dask workers with --scheduler local (default: the machine's cores)")
+    project.add_argument("--scheduler", metavar="ADDRESS|local",
+                         help="run the sections on the Dask scheduler at ADDRESS, or on a new local Dask cluster "
+                              '(needs pip install -e ".[dask]")')
 
     demo = commands.add_parser("demo", help="write the bundled demo scenario, then scan it")
     demo.add_argument("--out", metavar="DIR", default="pitfalls-demo", help="folder for the demo files (default ./pitfalls-demo)")
@@ -118,10 +134,10 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
                                  "use --2d for a line, or the byte options for a 3-D volume")
     only = [name.strip() for name in args.only.split(",") if name.strip()] if args.only else None
     rules, rules_path, rules_sha = _load_rules(args.rules)
-    for target in (args.output, args.annotated_picks, args.figure):
+    for target in (args.output, args.annotated_picks, args.figure, args.map, args.geojson):
         if target and os.path.abspath(target) in {os.path.abspath(p) for p in [args.section, *args.picks]}:
             raise PitfallsInputError(target, "", "is one of the input files", "write the output somewhere else; inputs are never changed")
-    if args.figure:
+    if args.figure or args.map:
         from pitfalls.report.figure import require_matplotlib
         require_matplotlib()
     jobs = _jobs(args.jobs)
@@ -141,6 +157,20 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.figure:
         from pitfalls.report.figure import draw
         write_atomically(args.figure, draw(result, rules))
+    if args.map:
+        if result.map_view is None:
+            raise PitfallsInputError("--map", "", f"{args.section} is a 2-D line; a map needs a 3-D volume",
+                                     "use --figure for a line")
+        from pitfalls.report.map_figure import draw_map
+        write_atomically(args.map, draw_map(result))
+    if args.geojson:
+        from pitfalls.report.geojson import feature_collection
+        if result.coordinates is None or not result.coordinates.from_headers:
+            raise PitfallsInputError(args.section, "trace header bytes 181/185",
+                                     "hold no CDP X/Y coordinates, so the findings have no place on a map",
+                                     "write the coordinates into the SEG-Y headers, or leave out --geojson")
+        collection = feature_collection(result.findings, result.coordinates, args.section)
+        write_atomically(args.geojson, json.dumps(collection, indent=1) + "\n")
     if result.failed or result.reaches(args.gate):
         return EXIT_FINDINGS
     return EXIT_OK
@@ -224,6 +254,42 @@ def _describe(args: argparse.Namespace, stdout: Console) -> int:
     return EXIT_OK
 
 
+def _project(args: argparse.Namespace, stdout: Console) -> int:
+    from pitfalls.io.project import read_project
+    from pitfalls.io.scheduler import open_runner
+    from pitfalls.project import run_project
+    from pitfalls.report import project as project_report
+    project = read_project(args.project)
+    rules, rules_path, rules_sha = _load_rules(project.rules_path)
+    if args.output:
+        inputs = {os.path.abspath(args.project)} | {os.path.abspath(p) for s in project.sections
+                                                     for p in (s.path, *s.pick_paths)}
+        if os.path.abspath(args.output) in inputs:
+            raise PitfallsInputError(args.output, "", "is one of the input files",
+                                     "write the output somewhere else; inputs are never changed")
+    with open_runner(args.jobs, args.scheduler) as runner:
+        result = run_project(project, rules, rules_path, rules_sha, runner)
+    if args.format == "json":
+        text = json.dumps(project_report.report_dict(result), indent=2) + "\n"
+    elif args.format == "markdown":
+        text = project_report.render_markdown(result)
+    else:
+        buffer = io.StringIO()
+        Console(file=buffer, width=120, color_system=None, force_terminal=False).print(
+            project_report.render_terminal(result))
+        text = buffer.getvalue()
+    if args.output:
+        write_atomically(args.output, text)
+    elif args.format == "terminal":
+        stdout.print(project_report.render_terminal(result))
+    else:
+        sys.stdout.write(text)
+        sys.stdout.flush()
+    if result.failed or result.reaches(args.gate):
+        return EXIT_FINDINGS
+    return EXIT_OK
+
+
 def _demo(args: argparse.Namespace, stdout: Console) -> int:
     from pitfalls.engine import scan
     from pitfalls.modelling.demo import write_demo
@@ -290,6 +356,8 @@ def main(argv: Sequence[str] | None = None) -> int:
             return _describe(args, stdout)
         if args.command == "demo":
             return _demo(args, stdout)
+        if args.command == "project":
+            return _project(args, stdout)
         if args.command == "rules":
             return _rules(args)
         if args.command == "explain":

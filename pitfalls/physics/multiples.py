@@ -37,11 +37,15 @@ def seafloor_multiple_twt_ms(seafloor_twt_ms: np.ndarray | float, multiplier: in
 
 
 def seafloor_dip_angle_deg(seafloor_twt_ms: np.ndarray, trace_spacing_m: float,
-                           water_velocity_m_s: float, smoothing_traces: int = 1) -> np.ndarray:
+                           water_velocity_m_s: float, smoothing_traces: int = 1,
+                           across_ms_per_m: np.ndarray | None = None) -> np.ndarray:
     """Seafloor dip angle from its time-dip on a zero-offset section: ``sin(xi) = (v / 2) dt/dx``.
 
     The seafloor times are median-smoothed over ``smoothing_traces`` (gaps interpolated for the
-    gradient, then put back as NaN). Returns degrees, >= 0, NaN where the seafloor is unknown.
+    gradient, then put back as NaN). On an inline of a volume, ``across_ms_per_m`` (the time
+    gradient across the inlines, per trace) is added in quadrature, ``sin(xi) = (v / 2) |grad t|``,
+    so the angle is the true dip, not its component along the line. Returns degrees, >= 0, NaN
+    where the seafloor is unknown.
     """
     twt = np.asarray(seafloor_twt_ms, dtype=float)
     found = np.isfinite(twt)
@@ -51,8 +55,13 @@ def seafloor_dip_angle_deg(seafloor_twt_ms: np.ndarray, trace_spacing_m: float,
     filled = np.interp(np.arange(twt.size), np.flatnonzero(found), twt[found])
     if smoothing_traces > 1:
         filled = median_filter(filled, size=int(smoothing_traces), mode="nearest")
-    dip_s_per_m = np.gradient(filled) / 1000.0 / float(trace_spacing_m)
-    sine = np.clip(0.5 * water_velocity_m_s * np.abs(dip_s_per_m), 0.0, 1.0)  # dt1/dL = (2/v) sin xi
+    dip_s_per_m = np.abs(np.gradient(filled) / 1000.0 / float(trace_spacing_m))
+    if across_ms_per_m is not None:
+        across_s_per_m = np.nan_to_num(np.asarray(across_ms_per_m, dtype=float), nan=0.0) / 1000.0
+        if smoothing_traces > 1:
+            across_s_per_m = median_filter(across_s_per_m, size=int(smoothing_traces), mode="nearest")
+        dip_s_per_m = np.hypot(dip_s_per_m, across_s_per_m)  # |grad t| of the seafloor plane
+    sine = np.clip(0.5 * water_velocity_m_s * dip_s_per_m, 0.0, 1.0)  # dt1/dL = (2/v) sin xi
     angle[found] = np.degrees(np.arcsin(sine[found]))
     return angle
 
