@@ -70,7 +70,7 @@ def dipping_seafloor_multiple_twt_ms(seafloor_twt_ms: np.ndarray | float,
                                      dip_angle_deg: np.ndarray | float, multiplier: int) -> np.ndarray:
     """Zero-offset time of the event with n seafloor bounces under a planar dipping seafloor.
 
-    ``t_n = t_sf * sin(n xi) / sin(xi)``, from ``t_n(L) = (2 L / v) sin(n xi)`` (REFERENCES item 1);
+    ``t_n = t_sf * sin(n xi) / sin(xi)``, from ``t_n(L) = (2 L / v) sin(n xi)`` (dipping-plane rule);
     tends to ``n * t_sf`` as xi -> 0.
     """
     twt = np.asarray(seafloor_twt_ms, dtype=float)
@@ -224,7 +224,7 @@ def time_dip_ratio(pick_twt_ms: np.ndarray, reference_twt_ms: np.ndarray, max_po
     """Time-dip of a pick over that of a reference surface: the Theil-Sen slope (median of pairwise
     slopes) of pick time on reference time.
 
-    A seafloor multiple of n bounces has about n times the seafloor's time-dip (REFERENCES item 1),
+    A seafloor multiple of n bounces has about n times the seafloor's time-dip (dipping-plane rule),
     so its slope on the seafloor time is about n. The median of pairwise slopes ignores a minority
     of mis-picked traces. Pairs whose reference times differ by less than 1e-6 ms are skipped; up to
     ``max_points`` evenly spaced points are used. Returns NaN with fewer than 3 usable points.
