@@ -1,13 +1,15 @@
 """Load the rules: ``rules/default.yaml`` merged with an optional user file, every value checked.
 
-The rules file is YAML read with ``yaml.safe_load`` (``CONTRACT.md``, section "Rules file").
+The rules file is YAML read with the project's safe loader, :func:`pitfalls.io.yaml_safe.read_yaml`
+(``yaml.safe_load`` without anchors, aliases or duplicate keys, size-capped).
 Its top level holds sections: the core sections of :data:`CORE_KEYS` and one section per
 detector, named after the detector's ``NAME`` and described by its ``RULE_KEYS``. Each key
 is described by ``(type, minimum, maximum)``; a bound of None means unbounded.
 
 Checks, for the defaults and the user file alike:
 
-- the file exists, is UTF-8 text and YAML (the error names the line);
+- the file exists, is at most 256 KiB of UTF-8 text and YAML without anchors, aliases or
+  duplicate keys (the error names the line);
 - the top level and each section are mappings (an empty section is allowed in a user file);
 - every section and key is known (the error gives the dotted path and the closest valid key);
 - every value has the right type: a whole number is accepted where a float is expected,
@@ -32,8 +34,12 @@ from typing import Any, Mapping
 import yaml
 
 from pitfalls.errors import PitfallsInputError
+from pitfalls.io.yaml_safe import read_yaml
 
 KeySpec = tuple  # (type, minimum or None, maximum or None)
+
+MAX_RULES_BYTES = 256 * 1024
+"""A rules file larger than this is refused unread (the shipped defaults are about 20 KiB)."""
 
 CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
     "velocity": {
@@ -143,46 +149,8 @@ def _default_fix(is_default: bool, fix: str) -> str:
 
 
 def _read_yaml(path: str, is_default: bool) -> tuple[bytes, Any]:
-    try:
-        with open(path, "rb") as handle:
-            raw = handle.read()
-    except FileNotFoundError as err:
-        raise PitfallsInputError(path, "", "rules file not found",
-                                 fix=_default_fix(is_default, "check the path and the file name")) from err
-    except IsADirectoryError as err:
-        raise PitfallsInputError(path, "", "this is a folder, not a rules file",
-                                 fix=_default_fix(is_default, "give the path of the YAML file")) from err
-    except OSError as err:
-        raise PitfallsInputError(path, "", f"rules file cannot be read ({err.strerror or err})",
-                                 fix=_default_fix(is_default, "check that you may read the file")) from err
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as err:
-        line = raw[: err.start].count(b"\n") + 1
-        raise PitfallsInputError(path, f"line {line}", f"byte {err.start} is not UTF-8 text",
-                                 fix=_default_fix(is_default, "save the rules file as UTF-8 text")) from err
-    try:
-        document = yaml.safe_load(text)
-    except yaml.MarkedYAMLError as err:
-        mark = err.problem_mark or err.context_mark
-        where = f"line {mark.line + 1}" if mark is not None else ""
-        problem = " ".join(part for part in (err.context, err.problem) if part) or "not valid YAML"
-        raise PitfallsInputError(path, where, f"not valid YAML: {problem}",
-                                 fix=_default_fix(is_default, "check the indentation and the colons "
-                                                  "(key: value, two spaces under each section)")) from err
-    except yaml.YAMLError as err:
-        position = getattr(err, "position", None)
-        where = f"line {text[:position].count(chr(10)) + 1}" if isinstance(position, int) else ""
-        raise PitfallsInputError(path, where, "not valid YAML: the text holds a character YAML does not allow",
-                                 fix=_default_fix(is_default, "remove control characters from the file")) from err
-    except (ValueError, KeyError, TypeError, OverflowError) as err:
-        # PyYAML's constructors let built-in errors escape for bad explicit tags such as `!!int abc`.
-        raise PitfallsInputError(path, "", f"not valid YAML: a tagged value cannot be read ({err})",
-                                 fix=_default_fix(is_default, "remove the !! tags and write plain values")) from err
-    except RecursionError as err:
-        raise PitfallsInputError(path, "", "not valid rules: the YAML is nested too deeply",
-                                 fix=_default_fix(is_default, "write sections of key: value pairs")) from err
-    return raw, document
+    return read_yaml(path, what="rules file", max_bytes=MAX_RULES_BYTES,
+                     fix=lambda fix: _default_fix(is_default, fix))
 
 
 # --- checking ---------------------------------------------------------------------------
