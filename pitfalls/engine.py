@@ -16,9 +16,10 @@ import numpy as np
 from pitfalls import detectors as registry
 from pitfalls.errors import PitfallsInputError
 from pitfalls.io.picks import PickFile, read_pick_file
-from pitfalls.io.placement import PlacedPicks, place_picks
+from pitfalls.io.placement import FileMatch, PlacedPicks, place_picks
 from pitfalls.io.segy import DEFAULT_INLINE_BYTE, DEFAULT_XLINE_BYTE, SeismicFile
 from pitfalls.model import DetectorRun, Finding, SectionInfo
+from pitfalls.physics.velocity import VelocityModel
 from pitfalls.physics.seafloor import dominant_frequency_hz, find_seafloor
 from pitfalls.report.rank import SEVERITY_ORDER, rank_findings
 
@@ -58,6 +59,12 @@ class ScanResult:
     detectors: tuple[DetectorRun, ...]
     findings: tuple[Finding, ...]
     seafloor: SeafloorSummary
+    matches: tuple[FileMatch, ...] = ()
+    """How each pick file's rows found their traces (one per pick file)."""
+    pick_notes: tuple[str, ...] = ()
+    """What reading and matching the picks did that the report should say."""
+    velocity: VelocityModel = VelocityModel()
+    """The velocity function every depth in the report comes from."""
 
     @property
     def failed(self) -> tuple[DetectorRun, ...]:
@@ -84,13 +91,18 @@ def select_detectors(only: Sequence[str] | None) -> tuple:
 def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any], rules_path: str,
          rules_sha256: str, only: Sequence[str] | None = None, iline_byte: int = DEFAULT_INLINE_BYTE,
          xline_byte: int = DEFAULT_XLINE_BYTE, force_2d: bool = False,
-         progress: Callable[[int, int], None] | None = None) -> ScanResult:
+         progress: Callable[[int, int], None] | None = None, pick_columns: Sequence[str] | None = None,
+         pick_horizon: str | None = None, velocity: VelocityModel | None = None) -> ScanResult:
     """Scan one section with its pick files; see the module docstring.
 
     Parameters
     ----------
     progress : callable, optional
         Called as ``progress(done_panels, total_panels)`` after every panel.
+    pick_columns, pick_horizon : optional
+        ``--columns`` (from ``io.picks.parse_columns``) and ``--horizon``, for every pick file.
+    velocity : VelocityModel, optional
+        The velocity function for every depth; defaults to the rules' (``VelocityModel.from_rules``).
 
     Raises
     ------
@@ -98,7 +110,8 @@ def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any],
         For any problem with the section, the picks or the detector selection.
     """
     selected = select_detectors(only)
-    pick_files = [read_pick_file(path) for path in pick_paths]
+    velocity = VelocityModel.from_rules(rules) if velocity is None else velocity
+    pick_files = read_pick_files(pick_paths, pick_columns, pick_horizon)
     with SeismicFile(section_path, rules["section"]["fallback_trace_spacing_m"], iline_byte, xline_byte,
                      force_2d) as seismic:
         info = seismic.info
@@ -152,7 +165,23 @@ def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any],
     return ScanResult(
         section=info, pick_files=tuple(pick_files), picks=_summaries(placed), rules_path=rules_path,
         rules_sha256=rules_sha256, detectors=runs, findings=rank_findings(findings, info, rules["ranking"]),
-        seafloor=seafloor_summary)
+        seafloor=seafloor_summary, matches=placed.matches, pick_notes=pick_notes(pick_files, placed),
+        velocity=velocity)
+
+
+def read_pick_files(paths: Sequence[str], columns: Sequence[str] | None = None,
+                    horizon: str | None = None) -> list[PickFile]:
+    """Read every pick file; ``--horizon`` must name the horizon of at least one file without a horizon column."""
+    files = [read_pick_file(path, columns, horizon) for path in paths]
+    if horizon is not None and files and all(f.horizon_column for f in files):
+        raise PitfallsInputError("--horizon", "", "every pick file names its horizons in a horizon column",
+                                 "drop --horizon, or mark the horizon column - in --columns")
+    return files
+
+
+def pick_notes(files: Sequence[PickFile], placed: PlacedPicks) -> tuple[str, ...]:
+    """The readers' notes, then how each file was matched to the traces."""
+    return tuple(note for f in files for note in f.notes) + tuple(match.describe() for match in placed.matches)
 
 
 def _summaries(placed: PlacedPicks) -> tuple[PickSummary, ...]:

@@ -139,6 +139,8 @@ class PickFile:
     """True when the columns were named with ``--columns`` (no header row)."""
     text: str | None = None
     """The source text, kept only for picks that did not come from a file."""
+    horizon_column: bool = True
+    """False when the file has no horizon column (its picks are one horizon named after it or by --horizon)."""
 
     @property
     def geometry(self) -> str:
@@ -319,7 +321,7 @@ def parse_pick_text(path: str, text: str, columns: Sequence[str] | None = None, 
         horizon_index=horizon_index[keep], position={name: values[keep] for name, values in position.items()},
         twt_ms=twt_ms[keep], merged_rows=merged_rows, merged_into=merged_into, n_skipped_lines=n_skipped,
         notes=tuple(notes), delimiter=delimiter, data_line=data_line, sha256=sha256,
-        named=columns is not None, text=text if keep_text else None)
+        named=columns is not None, text=text if keep_text else None, horizon_column="horizon" in names)
 
 
 def _key_columns(key: str) -> tuple[str, ...]:

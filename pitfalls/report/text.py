@@ -76,6 +76,8 @@ def section_lines(result: ScanResult) -> list[str]:
         f"Seafloor: {seafloor.source}, found on {seafloor.n_traces_found} traces, median {seafloor.twt_ms_median:.0f} ms, "
         f"{polarity} in this file's sign convention; dominant frequency {seafloor.dominant_frequency_hz:.0f} Hz",
         f"Rules: {result.rules_path}",
+        f"Velocity: {result.velocity.describe()}",
     ]
     lines += [f"Note: {note}" for note in info.notes]
+    lines += [f"Picks: {note}" for note in result.pick_notes]
     return lines
