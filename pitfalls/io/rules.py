@@ -78,6 +78,27 @@ CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
         # Findings their detector rates below this confidence are not reported.
         "min_confidence": (float, 0.0, 1.0),
     },
+    "describe": {
+        # `pitfalls describe` (see pitfalls/describe.py); lengths in dominant periods.
+        "guard_periods": (float, 0.0, 5.0),
+        "termination_guard_periods": (float, 0.0, 10.0),
+        "termination_band_periods": (float, 0.25, 20.0),
+        "min_coherence": (float, 0.0, 1.0),
+        "point_fraction": (float, 0.0, 10.0),
+        "window_traces": (int, 5, 100000),
+        "reflection_free_max_rms": (float, 0.0, 10.0),
+        "chaotic_max_share": (float, 0.0, 1.0),
+        "divergent_min_fan_deg": (float, 0.0, 90.0),
+        "divergent_min_thickening": (float, 0.0, 10.0),
+        "parallel_max_spread_deg": (float, 0.0, 90.0),
+        "thickening_min_fraction": (float, 0.0, 10.0),
+        "concordant_max_deg": (float, 0.0, 90.0),
+        "flat_max_deg": (float, 0.0, 90.0),
+        "toplap_max_ratio": (float, 0.0, 1.0),
+        "pick_window_ms": (float, 8.0, 2000.0),
+        "gradient_sigma_samples": (float, 0.3, 10.0),
+        "window_sigma_samples": (float, 0.5, 30.0),
+    },
 }
 
 _TYPE_WORDS = {float: "a number", int: "a whole number", bool: "true or false", str: "text"}
