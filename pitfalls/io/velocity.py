@@ -220,13 +220,13 @@ def _from_table(path: str, rules: Mapping[str, Any]) -> VelocityModel:
         if not stripped or stripped.startswith("#"):
             continue
         cells = [cell.strip().lower() for cell in _cells(line)]
-        if any(cell in _TIME_NAMES or cell in _VELOCITY_NAMES for cell in cells):
-            header_at = index
-            break
         if any(cell in ("twt_ms", "twt_s", "twt", "time") for cell in cells):
             raise PitfallsInputError(path, f"row {index + 1}", "the times are not marked as measured from the seafloor",
                                      "name the column twt_below_seafloor_ms and give times below the seafloor "
                                      "(the water layer is added from the water velocity)")
+        if any(cell in _TIME_NAMES or cell in _VELOCITY_NAMES for cell in cells):
+            header_at = index
+            break
     if header_at is None:
         raise PitfallsInputError(path, "header", "no row names the columns", header_fix)
     header = [cell.strip().lower() for cell in _cells(lines[header_at])]

@@ -136,7 +136,9 @@ class VelocityModel:
     def describe(self) -> str:
         """One line naming the function, for the report header."""
         water = f"water {self.water_velocity_m_s:g} m/s"
-        if self.is_table:
+        if self.is_table and len(self.table_twt_ms) == 1:
+            sediment = f"sediment {self.table_velocity_below_m_s:g} m/s throughout (a one-row table)"
+        elif self.is_table:
             sediment = (f"sediment from a table of {self.table_kind or 'interval'} velocities against two-way time "
                         f"below the seafloor (to {self.table_twt_ms[-1]:g} ms, {self.table_depth_m[-1]:.0f} m; "
                         f"{self.table_velocity_below_m_s:.0f} m/s below)")
