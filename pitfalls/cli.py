@@ -1,6 +1,6 @@
 """The command line: the only module that prints or exits.
 
-Exit codes: 0 the scan ran and no finding reached ``--fail-on``; 1 a finding reached it or a
+Exit codes: 0 the scan ran and no finding reached ``--gate``; 1 a finding reached it or a
 detector failed; 2 bad input or usage (one line on stderr, no traceback).
 """
 from __future__ import annotations
@@ -20,6 +20,7 @@ from pitfalls.errors import PitfallsInputError
 from pitfalls.io.output import write_whole
 
 EXIT_OK, EXIT_FINDINGS, EXIT_INPUT = 0, 1, 2
+RULES_HELP = "YAML rules overriding any subset of the built-in defaults (a copy is rules/default.yaml in the repository)"
 
 
 class _Parser(argparse.ArgumentParser):
@@ -46,13 +47,14 @@ def build_parser() -> argparse.ArgumentParser:
                                                          "table of two-way time below the seafloor and velocity")
     scan.add_argument("--horizon", metavar="NAME", help="horizon name for pick files without a horizon column "
                                                         "(default: the file's name)")
-    scan.add_argument("--rules", metavar="FILE", help="YAML rules overriding rules/default.yaml")
+    scan.add_argument("--rules", metavar="FILE", help=RULES_HELP)
     scan.add_argument("--format", choices=("terminal", "json", "markdown"), default="terminal")
     scan.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
     scan.add_argument("--annotated-picks", metavar="FILE.csv", help="write the pick rows back with their findings")
     scan.add_argument("--figure", metavar="FILE.png", help="draw the section, picks and findings (needs matplotlib)")
-    scan.add_argument("--fail-on", choices=("high", "medium", "low", "never"), default="high",
-                      help="exit 1 when a finding is at least this severe (default high)")
+    scan.add_argument("--gate", choices=("high", "medium", "low", "off"), default="high",
+                      help="exit 1 when a finding is at least this severe (default high; off: only a failed "
+                           "detector exits 1)")
     scan.add_argument("--iline-byte", type=int, metavar="N", help="trace-header byte of the inline number (default 189)")
     scan.add_argument("--xline-byte", type=int, metavar="N", help="trace-header byte of the crossline number (default 193)")
     scan.add_argument("--2d", dest="force_2d", action="store_true", help="read the file as a 2-D line in trace order")
@@ -74,7 +76,7 @@ def build_parser() -> argparse.ArgumentParser:
     demo.add_argument("--out", metavar="DIR", default="pitfalls-demo", help="folder for the demo files (default ./pitfalls-demo)")
 
     rules = commands.add_parser("rules", help="print the active rules, defaults merged, validated")
-    rules.add_argument("--rules", metavar="FILE", help="YAML rules overriding rules/default.yaml")
+    rules.add_argument("--rules", metavar="FILE", help=RULES_HELP)
 
     explain = commands.add_parser("explain", help="what a finding means, why it matters, what to check")
     explain.add_argument("finding_id", nargs="?", metavar="FINDING_ID")
@@ -151,7 +153,7 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.figure:
         from pitfalls.report.figure import draw
         write_atomically(args.figure, draw(result, rules))
-    if result.failed or result.reaches(args.fail_on):
+    if result.failed or result.reaches(args.gate):
         return EXIT_FINDINGS
     return EXIT_OK
 
@@ -226,7 +228,10 @@ def _demo(args: argparse.Namespace, stdout: Console) -> int:
 def _rules(args: argparse.Namespace) -> int:
     from pitfalls.io.rules import render_rules
     rules, rules_path, _ = _load_rules(args.rules)
-    sys.stdout.write(f"# active rules: {rules_path} merged over the defaults\n")
+    if args.rules:
+        sys.stdout.write(f"# active rules: {rules_path} merged over the built-in defaults\n")
+    else:
+        sys.stdout.write(f"# active rules: {rules_path}\n")
     sys.stdout.write(render_rules(rules))
     return EXIT_OK
 

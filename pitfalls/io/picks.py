@@ -139,6 +139,8 @@ class PickFile:
     """True when the columns were named with ``--columns`` (no header row)."""
     text: str | None = None
     """The source text, kept only for picks that did not come from a file."""
+    row_offset: int = 0
+    """Subtracted from the text's record numbers to give :attr:`row` (a table numbered from 0 uses 2)."""
     horizon_column: bool = True
     """False when the file has no horizon column (its picks are one horizon named after it or by --horizon)."""
 
@@ -176,7 +178,7 @@ class PickFile:
         body = "".join(lines[self.data_line - 1:])
         for row, cells in _iter_records(self.path, body, self.delimiter, self.data_line):
             if not _blank(cells) and not (self.named and _comment(cells)):
-                yield row, cells
+                yield row - self.row_offset, cells
 
 
 # --- the options ------------------------------------------------------------------------
