@@ -177,8 +177,9 @@ def read_pick_files(paths: Sequence[str], columns: Sequence[str] | None = None,
 
 
 def pick_notes(files: Sequence[PickFile], placed: PlacedPicks) -> tuple[str, ...]:
-    """The readers' notes, then how each file was matched to the traces."""
-    return tuple(note for f in files for note in f.notes) + tuple(match.describe() for match in placed.matches)
+    """The readers' notes, then how each file was matched to the traces when not by trace or inline/xline numbers."""
+    return tuple(note for f in files for note in f.notes) + tuple(
+        match.describe() for match in placed.matches if match.key not in ("trace", "inline_xline"))
 
 
 def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules: Mapping[str, Any],

@@ -250,12 +250,14 @@ def read_pick_file(path: str, columns: Sequence[str] | None = None, horizon: str
 
 
 def parse_pick_text(path: str, text: str, columns: Sequence[str] | None = None, horizon: str | None = None,
-                    keep_text: bool = False) -> PickFile:
+                    keep_text: bool = False, require_horizon: bool = False) -> PickFile:
     """Check and parse pick-file text already read, as :func:`read_pick_file` does.
 
     ``path`` names the source in messages and in :attr:`PickFile.path`. With ``keep_text`` the
     text is kept in the result (for a source that is not a file, so its rows can be written
-    back); otherwise the file is read again when the rows are written back.
+    back); otherwise the file is read again when the rows are written back. With
+    ``require_horizon`` a missing horizon column is an error (a source with no file name to
+    name its horizon after).
     """
     if not text.strip():
         raise PitfallsInputError(path, "", "the file is empty",
@@ -265,6 +267,8 @@ def parse_pick_text(path: str, text: str, columns: Sequence[str] | None = None, 
     if columns is None:
         start, delimiter, header = _find_header(path, lines)
         names = _header_roles(path, header)
+        if require_horizon and "horizon" not in names:
+            raise _missing_column(path, header, "horizon", "there is no horizon column")
         data_line = start + 2
         header_row: int | None = start + 1
         written = tuple(header)
@@ -283,7 +287,8 @@ def parse_pick_text(path: str, text: str, columns: Sequence[str] | None = None, 
     time_name = "twt_ms" if "twt_ms" in names else "twt_s"
     width = len(columns) if columns is not None else len(header)
 
-    parts = _Columns(key_names, "horizon" in names, "kind" in names)
+    default_name = horizon if horizon else os.path.splitext(os.path.basename(path))[0] or "picks"
+    parts = _Columns(key_names, "horizon" in names, "kind" in names, default_name)
     for chunk in _chunks(_iter_records(path, body, delimiter, data_line)):
         _parse_chunk(path, chunk, names, width, columns is not None, delimiter, key_names, time_name, parts)
     if not parts.rows:
@@ -297,7 +302,7 @@ def parse_pick_text(path: str, text: str, columns: Sequence[str] | None = None, 
         horizon_names = tuple(parts.horizon_names)
         horizon_index = np.concatenate(parts.horizon_index).astype(np.int32)
     else:
-        name = horizon if horizon else os.path.splitext(os.path.basename(path))[0] or "picks"
+        name = default_name
         horizon_names = (name,)
         horizon_index = np.zeros(sum(len(r) for r in parts.rows), dtype=np.int32)
         notes.append(f"{os.path.basename(path)} has no horizon column: its picks are one horizon, "
@@ -565,7 +570,8 @@ def _find_first_pick(path: str, lines: list[str], columns: tuple[str, ...]) -> t
 class _Columns:
     """Arrays collected chunk by chunk."""
 
-    def __init__(self, key_names: tuple[str, ...], has_horizon: bool, has_kind: bool) -> None:
+    def __init__(self, key_names: tuple[str, ...], has_horizon: bool, has_kind: bool, default_name: str) -> None:
+        self.default_name = default_name
         self.rows: list[np.ndarray] = []
         self.times: list[np.ndarray] = []
         self.position: dict[str, list[np.ndarray]] = {name: [] for name in key_names}
@@ -636,7 +642,7 @@ def _parse_chunk(path: str, chunk: list[tuple[int, list[str]]], names: dict[str,
                                          fix=f"use one of {', '.join(PICK_KINDS)}, or leave the cell empty for horizon")
             first = parts.kinds.setdefault(int(indices[i]), (stated, int(rows[i])))
             if first[0] != stated:
-                name = parts.horizon_names[int(indices[i])] if parts.has_horizon else "the file's horizon"
+                name = parts.horizon_names[int(indices[i])] if parts.has_horizon else parts.default_name
                 raise PitfallsInputError(
                     path, f"row {rows[i]}",
                     f"horizon '{name}' is a {stated} here but a {first[0]} in row {first[1]}",
