@@ -12,10 +12,7 @@ import os
 import sys
 from typing import Sequence
 
-from rich.console import Console
-
 from pitfalls import __version__
-from pitfalls import detectors as registry
 from pitfalls.errors import PitfallsInputError
 from pitfalls.io.output import write_whole
 
@@ -30,7 +27,14 @@ class _Parser(argparse.ArgumentParser):
         raise PitfallsInputError("command line", "", message, f"see `{self.prog} --help`")
 
 
+def _registry():
+    """The detector registry, imported when a command needs it (it loads numpy and scipy)."""
+    from pitfalls import detectors
+    return detectors
+
+
 def build_parser() -> argparse.ArgumentParser:
+    registry = _registry()
     parser = _Parser(prog="pitfalls", description=(
         "Screen seismic interpretation picks on a post-stack SEG-Y section for physical pitfalls "
         "(multiples, false fluid contacts, cross-cutting boundaries, pick errors)."))
@@ -60,6 +64,8 @@ def build_parser() -> argparse.ArgumentParser:
     scan.add_argument("--2d", dest="force_2d", action="store_true", help="read the file as a 2-D line in trace order")
     scan.add_argument("--only", metavar="DETECTOR,...", help="run only these detectors: " + ", ".join(registry.BY_NAME))
     scan.add_argument("--quiet", action="store_true", help="print no report on stdout (files and exit code only)")
+    scan.add_argument("--jobs", type=int, metavar="N",
+                      help="worker processes for the blocks of a 3-D volume (default: the machine's cores)")
 
     describe = commands.add_parser("describe", help="measure the character of each interval between the picks and along each pick")
     describe.add_argument("section", metavar="SECTION", help="post-stack SEG-Y file (2-D line or 3-D volume)")
@@ -95,7 +101,7 @@ def write_atomically(path: str, text: str | bytes) -> None:
 
 def _load_rules(path: str | None):
     from pitfalls.io.rules import load_rules
-    return load_rules(path, registry.rule_keys())
+    return load_rules(path, _registry().rule_keys())
 
 
 def _render_text(result, fmt: str, width: int | None = None) -> str:
@@ -106,6 +112,7 @@ def _render_text(result, fmt: str, width: int | None = None) -> str:
         from pitfalls.report.markdown import render
         return render(result)
     from pitfalls.report.terminal import render
+    from rich.console import Console
     buffer = io.StringIO()
     Console(file=buffer, width=width or 120, color_system=None, force_terminal=False).print(render(result))
     return buffer.getvalue()
@@ -131,19 +138,14 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.figure:
         from pitfalls.report.figure import require_matplotlib
         require_matplotlib()
-    progress_console = Console(stderr=True)
-    show_progress = sys.stderr.isatty()
-    if show_progress:
-        from rich.progress import Progress
-        with Progress(console=progress_console, transient=True) as bar:
-            task = bar.add_task("scanning", total=None)
-            result = scan(args.section, args.picks, rules, rules_path, rules_sha, only,
-                          args.iline_byte or 189, args.xline_byte or 193, args.force_2d,
-                          progress=lambda done, total: bar.update(task, completed=done, total=total),
-                          **pick_options)
+    jobs = _jobs(args.jobs)
+    options = dict(only=only, iline_byte=args.iline_byte or 189, xline_byte=args.xline_byte or 193,
+                   force_2d=args.force_2d, jobs=jobs, **pick_options)
+    if sys.stderr.isatty():
+        with _progress_bar() as progress:
+            result = scan(args.section, args.picks, rules, rules_path, rules_sha, progress=progress, **options)
     else:
-        result = scan(args.section, args.picks, rules, rules_path, rules_sha, only,
-                      args.iline_byte or 189, args.xline_byte or 193, args.force_2d, **pick_options)
+        result = scan(args.section, args.picks, rules, rules_path, rules_sha, **options)
     _emit(result, args.format, args.output, args.quiet, stdout)
     if args.annotated_picks:
         if not args.picks:
@@ -156,6 +158,40 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if result.failed or result.reaches(args.gate):
         return EXIT_FINDINGS
     return EXIT_OK
+
+
+def _jobs(requested: int | None) -> int:
+    """Worker processes: as asked, else one per core the process may use."""
+    if requested is None:
+        try:
+            return max(1, len(os.sched_getaffinity(0)))
+        except AttributeError:  # platforms without CPU affinity
+            return max(1, os.cpu_count() or 1)
+    if requested < 1:
+        raise PitfallsInputError("--jobs", "", f"is {requested}", "give a whole number of worker processes, 1 or more")
+    return requested
+
+
+class _progress_bar:
+    """A transient progress bar on stderr: panels (inlines) done, samples per second, time left."""
+
+    def __enter__(self):
+        from rich.console import Console
+        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
+        self._bar = Progress(TextColumn("scanning"), BarColumn(), MofNCompleteColumn(), TextColumn("panels"),
+                             TextColumn("{task.fields[rate]}"), TimeRemainingColumn(),
+                             console=Console(stderr=True), transient=True)
+        self._bar.__enter__()
+        self._task = self._bar.add_task("scan", total=None, rate="")
+        return self
+
+    def __call__(self, done: int, total: int, samples: int = 0) -> None:
+        elapsed = self._bar.tasks[0].elapsed or 0.0
+        rate = f"{samples / elapsed / 1e6:.1f} Msamples/s" if samples and elapsed > 0 else ""
+        self._bar.update(self._task, completed=done, total=total, rate=rate)
+
+    def __exit__(self, *exc: object) -> None:
+        self._bar.__exit__(*exc)
 
 
 def _emit(result, fmt: str, output: str | None, quiet: bool, stdout: Console) -> None:
@@ -189,6 +225,7 @@ def _describe(args: argparse.Namespace, stdout: Console) -> int:
         text = report.render_markdown(description)
     else:
         buffer = io.StringIO()
+        from rich.console import Console
         Console(file=buffer, width=120, color_system=None, force_terminal=False).print(report.render_terminal(description))
         text = buffer.getvalue()
     if args.output:
@@ -237,7 +274,7 @@ def _rules(args: argparse.Namespace) -> int:
 
 
 def _explain(args: argparse.Namespace, stdout: Console) -> int:
-    kinds = registry.finding_kinds()
+    kinds = _registry().finding_kinds()
     if args.list or not args.finding_id:
         for finding_id, (detector, (meaning, _, _)) in kinds.items():
             stdout.print(f"{finding_id:34s} {meaning}", highlight=False)
@@ -253,9 +290,14 @@ def _explain(args: argparse.Namespace, stdout: Console) -> int:
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit code (also used by ``python -m pitfalls``)."""
+    arguments = sys.argv[1:] if argv is None else list(argv)
+    if arguments == ["--version"]:  # answered before numpy, scipy or rich are loaded
+        print(f"pitfalls {__version__}")
+        return EXIT_OK
+    from rich.console import Console
     stdout = Console(highlight=False)
     try:
-        args = build_parser().parse_args(argv)
+        args = build_parser().parse_args(arguments)
         if args.command == "scan":
             return _scan(args, stdout)
         if args.command == "describe":

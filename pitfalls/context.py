@@ -20,6 +20,7 @@ import numpy as np
 
 from pitfalls.model import Picks, Section
 from pitfalls.physics.dip import DipField, structure_tensor_dip
+from pitfalls.physics.envelope import envelope
 from pitfalls.physics.multiples import peak_amplitude, seafloor_dip_angle_deg, seafloor_multiple_band_twt_ms
 from pitfalls.physics.seafloor import Seafloor, dominant_frequency_hz, find_seafloor
 from pitfalls.physics.velocity import VelocityModel
@@ -79,8 +80,7 @@ class Context:
     @cached_property
     def envelope(self) -> np.ndarray:
         """Envelope (magnitude of the analytic signal, Hilbert transform along time) of every trace."""
-        from scipy.signal import hilbert
-        return np.abs(hilbert(self.live_data, axis=1))
+        return envelope(self.live_data, axis=1)
 
 
 def build_context(block: Section, picks: Picks, rules: Mapping[str, Any],

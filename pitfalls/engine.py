@@ -11,8 +11,9 @@ does not stop the scan: it is recorded as failed and the other detectors go on.
 from __future__ import annotations
 
 import time
+from collections import deque
 from dataclasses import dataclass, replace
-from typing import Any, Callable, Mapping, Sequence
+from typing import Any, Callable, Iterator, Mapping, Sequence
 
 import numpy as np
 
@@ -105,22 +106,36 @@ class PanelOutcome:
     dominant_frequency_hz: float
 
 
+@dataclass(frozen=True)
+class BlockOutcome:
+    """One block's panels after the detectors ran, with their time and failures."""
+
+    outcomes: tuple[PanelOutcome, ...]
+    seconds: Mapping[str, float]
+    failures: tuple[tuple[int, str, str], ...]
+    """(panel index, detector name, one-line message) for every detector that raised, in panel order."""
+
+
 def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any], rules_path: str,
          rules_sha256: str, only: Sequence[str] | None = None, iline_byte: int = DEFAULT_INLINE_BYTE,
          xline_byte: int = DEFAULT_XLINE_BYTE, force_2d: bool = False,
          progress: Callable[[int, int], None] | None = None, velocity: VelocityModel | None = None,
-         inlines_per_block: int = DEFAULT_INLINES_PER_BLOCK, pick_columns: Sequence[str] | None = None,
+         jobs: int = 1, inlines_per_block: int = DEFAULT_INLINES_PER_BLOCK, pick_columns: Sequence[str] | None = None,
          pick_horizon: str | None = None) -> ScanResult:
     """Scan one SEG-Y section with its pick files; see the module docstring.
 
     Parameters
     ----------
     progress : callable, optional
-        Called as ``progress(done_panels, total_panels)`` after every block.
+        Called as ``progress(done_panels, total_panels)`` after every block; a callable with a
+        ``samples`` parameter also gets the samples scanned so far as ``samples=``.
     velocity : VelocityModel, optional
         The velocity function for every depth; defaults to the rules' (``VelocityModel.from_rules``).
+    jobs : int
+        Worker processes for the blocks of a volume (1 runs them here); the report is the same
+        for any number.
     inlines_per_block : int
-        Inlines of a volume read and measured together.
+        Inlines of a volume read and measured together; the report is the same for any size.
     pick_columns, pick_horizon : optional
         ``--columns`` (from ``io.picks.parse_columns``) and ``--horizon``, for every pick file.
 
@@ -135,30 +150,54 @@ def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any],
     with SeismicFile(section_path, rules["section"]["fallback_trace_spacing_m"], iline_byte, xline_byte,
                      force_2d) as source:
         return scan_source(source, pick_files, rules, rules_path, rules_sha256, selected, progress=progress,
-                           velocity=velocity, inlines_per_block=inlines_per_block)
+                           velocity=velocity, jobs=jobs, inlines_per_block=inlines_per_block)
 
 
 def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any], rules_path: str,
                 rules_sha256: str, selected: Sequence[Any], *, progress: Callable[[int, int], None] | None = None,
-                velocity: VelocityModel | None = None,
+                velocity: VelocityModel | None = None, jobs: int | None = 1,
                 inlines_per_block: int = DEFAULT_INLINES_PER_BLOCK) -> ScanResult:
-    """Scan any section source: an object with ``info`` (SectionInfo), ``layout`` (TraceLayout),
-    ``n_panels`` and ``blocks(inlines_per_block)`` yielding :class:`~pitfalls.model.Block` in order."""
+    """Scan any section source.
+
+    A source has ``info`` (SectionInfo), ``layout`` (TraceLayout), ``n_panels``,
+    ``read_block(first_panel, stop_panel)`` returning a :class:`~pitfalls.model.Block`, and, for
+    ``jobs > 1``, ``reader()`` returning a picklable object with the same ``read_block``.
+    """
     velocity = VelocityModel.from_rules(rules) if velocity is None else velocity
+    jobs = 1 if jobs is None else int(jobs)
     info = source.info
     placed = place_picks(list(pick_files), info, source.layout, getattr(source, "trace_keys", None))
     total = source.n_panels
+    step = max(1, int(inlines_per_block))
+    tasks = [(first, min(total, first + step)) for first in range(0, total, step)]
     seconds = {module.NAME: 0.0 for module in selected}
-    errors: dict[str, str] = {}
+    first_failure: dict[str, tuple[int, str]] = {}
     outcomes: list[PanelOutcome] = []
-    for block in source.blocks(inlines_per_block):
-        outcomes.extend(scan_block(block, placed, selected, rules, velocity, info.geometry, seconds, errors))
+    samples_done = 0
+    wants_samples = progress is not None and _takes_samples(progress)
+    for block in _block_outcomes(source, tasks, placed, selected, rules, velocity, jobs, first_failure):
+        for name, spent in block.seconds.items():
+            seconds[name] += spent
+        for panel_index, name, message in block.failures:
+            if name not in first_failure or panel_index < first_failure[name][0]:
+                first_failure[name] = (panel_index, message)
+        outcomes.extend(block.outcomes)
+        samples_done += sum(outcome.seafloor_twt_ms.size for outcome in block.outcomes) * info.n_samples
         if progress is not None:
-            progress(len(outcomes), total)
-    per_panel = [list(outcome.findings) for outcome in outcomes]
+            if wants_samples:
+                progress(len(outcomes), total, samples=samples_done)
+            else:
+                progress(len(outcomes), total)
+    # a detector that failed is not trusted after the panel it failed on, however the blocks were run
+    per_panel = [[f for f in outcome.findings
+                  if f.detector not in first_failure or panel_index < first_failure[f.detector][0]]
+                 for panel_index, outcome in enumerate(outcomes)]
     findings = merge_inlines(per_panel) if info.geometry == "3d" else per_panel[0]
-    runs = tuple(DetectorRun(module.NAME, "failed" if module.NAME in errors else "ran", seconds[module.NAME],
-                             errors.get(module.NAME, "")) for module in selected)
+    layout = source.layout
+    findings = [replace(f, footprint_xy=layout.footprint_xy(f.traces, f.inlines, f.xlines)) for f in findings]
+    runs = tuple(DetectorRun(module.NAME, "failed" if module.NAME in first_failure else "ran", seconds[module.NAME],
+                             first_failure[module.NAME][1] if module.NAME in first_failure else "")
+                 for module in selected)
     return ScanResult(
         section=info, pick_files=tuple(pick_files), picks=_summaries(placed), rules_path=rules_path,
         rules_sha256=rules_sha256, detectors=runs, findings=rank_findings(findings, info, rules["ranking"]),
@@ -182,14 +221,76 @@ def pick_notes(files: Sequence[PickFile], placed: PlacedPicks) -> tuple[str, ...
         match.describe() for match in placed.matches if match.key not in ("trace", "inline_xline"))
 
 
+def _takes_samples(progress: Callable[..., None]) -> bool:
+    import inspect
+    try:
+        return "samples" in inspect.signature(progress).parameters
+    except (TypeError, ValueError):  # a builtin without a signature
+        return False
+
+
+def _block_outcomes(source, tasks: list[tuple[int, int]], placed: PlacedPicks, selected: Sequence[Any],
+                    rules: Mapping[str, Any], velocity: VelocityModel, jobs: int,
+                    first_failure: Mapping[str, tuple[int, str]]) -> Iterator[BlockOutcome]:
+    """Every block's outcome, in section order: here, or in ``jobs`` worker processes with at most
+    two blocks per worker in flight, so memory stays flat however large the volume."""
+    geometry = source.info.geometry
+    if jobs <= 1 or len(tasks) <= 1:
+        for first, stop in tasks:
+            skip = frozenset(first_failure)  # already failed on an earlier panel: not run again
+            yield scan_block(source.read_block(first, stop), placed, selected, rules, velocity, geometry, skip)
+        return
+    from concurrent.futures import ProcessPoolExecutor
+    names = tuple(module.NAME for module in selected)
+    workers = min(int(jobs), len(tasks))
+    with ProcessPoolExecutor(max_workers=workers, mp_context=_process_context(), initializer=_start_worker,
+                             initargs=(source.reader(), placed, names, rules, velocity, geometry)) as pool:
+        pending: deque = deque()
+        for task in tasks:
+            pending.append(pool.submit(_worker_block, task))
+            if len(pending) >= 2 * workers:
+                yield pending.popleft().result()
+        while pending:
+            yield pending.popleft().result()
+
+
+def _process_context():
+    """Worker processes forked from a server that has the engine imported (fast start, no inherited
+    threads); plain spawning where the platform has no fork server."""
+    import multiprocessing
+    if "forkserver" in multiprocessing.get_all_start_methods():
+        context = multiprocessing.get_context("forkserver")
+        context.set_forkserver_preload(["pitfalls.engine"])
+        return context
+    return multiprocessing.get_context("spawn")
+
+
+_WORKER: dict[str, Any] = {}
+"""A worker process's reader, picks, detectors, rules and velocity, set once when it starts."""
+
+
+def _start_worker(reader, placed: PlacedPicks, names: Sequence[str], rules: Mapping[str, Any],
+                  velocity: VelocityModel, geometry: str) -> None:
+    _WORKER.update(reader=reader, placed=placed, selected=select_detectors(list(names)), rules=rules,
+                   velocity=velocity, geometry=geometry)
+
+
+def _worker_block(task: tuple[int, int]) -> BlockOutcome:
+    state = _WORKER
+    block = state["reader"].read_block(*task)
+    return scan_block(block, state["placed"], state["selected"], state["rules"], state["velocity"],
+                      state["geometry"], frozenset())
+
+
 def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules: Mapping[str, Any],
-               velocity: VelocityModel, geometry: str, seconds: dict[str, float],
-               errors: dict[str, str]) -> list[PanelOutcome]:
+               velocity: VelocityModel, geometry: str, skip: frozenset[str] = frozenset()) -> BlockOutcome:
     """Build each panel's context once and run every selected detector on it.
 
-    ``seconds`` (per detector) and ``errors`` (detector name -> one-line message) are updated; a
-    detector that has failed once is not run again.
+    Detectors named in ``skip``, and any that raise, are not run on the block's later panels.
     """
+    seconds = {module.NAME: 0.0 for module in selected}
+    failures: list[tuple[int, str, str]] = []
+    failed = set(skip)
     outcomes = []
     for offset, panel in enumerate(block.panels):
         panel_index = block.first_panel + offset
@@ -197,14 +298,15 @@ def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules
         context = build_context(panel, picks, rules, velocity)
         found: list[Finding] = []
         for module in selected:
-            if module.NAME in errors:
+            if module.NAME in failed:
                 continue
             started = time.perf_counter()
             try:
                 result = module.detect(panel, context, picks, rules)
             except Exception as err:  # a failing detector must not stop the others
                 where = f" on {panel.name}" if geometry == "3d" else ""
-                errors[module.NAME] = f"{type(err).__name__}{where}: {' '.join(str(err).split())}"
+                failures.append((panel_index, module.NAME, f"{type(err).__name__}{where}: {' '.join(str(err).split())}"))
+                failed.add(module.NAME)
                 result = []
             seconds[module.NAME] += time.perf_counter() - started
             found.extend(result)
@@ -215,7 +317,7 @@ def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules
         seafloor = context.seafloor
         outcomes.append(PanelOutcome(tuple(found), seafloor.twt_ms, seafloor.polarity, seafloor.source,
                                      context.dominant_frequency_hz))
-    return outcomes
+    return BlockOutcome(tuple(outcomes), seconds, tuple(failures))
 
 
 def _seafloor_summary(outcomes: Sequence[PanelOutcome]) -> SeafloorSummary:

@@ -78,12 +78,12 @@ from typing import Any, Mapping
 
 import numpy as np
 from scipy.ndimage import gaussian_filter1d, label
-from scipy.stats import theilslopes
 
 from pitfalls.context import Context
 from pitfalls.model import Finding, Horizon, Picks, Section
 from pitfalls.physics.dip import DipField
 from pitfalls.physics.hydrodynamics import hubbert_head_gradient_m_per_km, tilt_angle_deg
+from pitfalls.physics.robust import theil_sen_slope
 from pitfalls.physics.seafloor import amplitude_at
 from pitfalls.physics.velocity import VelocityModel
 
@@ -257,7 +257,7 @@ def _theil_sen(x: np.ndarray, y: np.ndarray) -> float:
     """Theil-Sen slope (Sen 1968), robust to outlying picks; 0 when x does not vary."""
     if np.ptp(x) == 0:
         return 0.0
-    return float(theilslopes(y, x).slope)
+    return theil_sen_slope(x, y)
 
 
 def _numbers(section: Section, first_index: int, last_index: int) -> tuple[int, int]:

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import hashlib
 import os
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Iterator
 
 import numpy as np
@@ -65,6 +65,31 @@ class TraceLayout:
     inline_numbers: np.ndarray = field(default_factory=lambda: np.empty(0, dtype=np.int64))
     xline_numbers: np.ndarray = field(default_factory=lambda: np.empty(0, dtype=np.int64))
     grid: np.ndarray = field(default_factory=lambda: np.empty((0, 0), dtype=np.int64))
+    trace_x: np.ndarray | None = None
+    """CDP X of each trace in file order, coordinate scalar applied; None when the headers hold none."""
+    trace_y: np.ndarray | None = None
+    """CDP Y of each trace in file order, coordinate scalar applied; None when the headers hold none."""
+
+    def footprint_xy(self, traces: tuple[int, int] | None = None, inlines: tuple[int, int] | None = None,
+                     xlines: tuple[int, int] | None = None) -> tuple[tuple[float, float], tuple[float, float]] | None:
+        """CDP X/Y extent ``((x_min, y_min), (x_max, y_max))`` of a trace range (a line) or of an
+        inline/crossline range (a volume, by line numbers); None without coordinates or traces there."""
+        if self.trace_x is None or self.trace_y is None:
+            return None
+        if self.geometry == "3d" and inlines is not None:
+            rows = (self.inline_numbers >= inlines[0]) & (self.inline_numbers <= inlines[1])
+            columns = (np.ones(len(self.xline_numbers), dtype=bool) if xlines is None else
+                       (self.xline_numbers >= xlines[0]) & (self.xline_numbers <= xlines[1]))
+            chosen = self.grid[np.ix_(rows, columns)]
+            chosen = chosen[chosen >= 0]
+        elif traces is not None:
+            chosen = np.arange(max(traces[0], 1) - 1, min(traces[1], self.n_traces))
+        else:
+            chosen = np.arange(self.n_traces)
+        if chosen.size == 0:
+            return None
+        x, y = self.trace_x[chosen], self.trace_y[chosen]
+        return (float(x.min()), float(y.min())), (float(x.max()), float(y.max()))
 
 
 class SeismicFile:
@@ -89,6 +114,7 @@ class SeismicFile:
             ) from err
         try:
             self._describe(fallback_spacing_m, iline_byte, xline_byte, force_2d)
+            self._reader = SegyBlockReader(self.path, self.info, self.layout, handle=self._file)
         except PitfallsInputError:
             self._file.close()
             raise
@@ -127,6 +153,7 @@ class SeismicFile:
         xlines = _read_header_field(handle, xline_byte, self.path)
         self.layout = self._layout(n_traces, inlines, xlines, force_2d, iline_byte, xline_byte)
         spacing_m, measured = self._trace_spacing(fallback_spacing_m)
+        extent = self.layout.footprint_xy()
         if not measured:
             notes.append(f"no usable CDP X/Y coordinates; trace spacing {fallback_spacing_m:g} m from the rules")
         if self.layout.geometry == "3d":
@@ -141,6 +168,7 @@ class SeismicFile:
             n_traces=n_traces, n_samples=n_samples, dt_ms=dt_ms, t0_ms=t0_ms,
             n_inlines=shape[0], n_xlines=shape[1], n_missing_traces=n_missing,
             trace_spacing_m=spacing_m, spacing_from_headers=measured, notes=tuple(notes),
+            coordinate_extent_xy=extent,
         )
 
     def _layout(self, n_traces: int, inlines: np.ndarray, xlines: np.ndarray, force_2d: bool,
@@ -174,10 +202,11 @@ class SeismicFile:
         scalars = handle.attributes(segyio.TraceField.SourceGroupScalar)[:].astype(np.int64)
         x = handle.attributes(segyio.TraceField.CDP_X)[:].astype(float)
         y = handle.attributes(segyio.TraceField.CDP_Y)[:].astype(float)
-        scale = np.array([coordinate_scale(int(s)) for s in np.unique(scalars)])
-        lookup = dict(zip(np.unique(scalars).tolist(), scale.tolist()))
-        factor = np.array([lookup[int(s)] for s in scalars]) if len(lookup) > 1 else scale[0]
+        distinct, which = np.unique(scalars, return_inverse=True)
+        factor = np.array([coordinate_scale(int(s)) for s in distinct])[which.ravel()]
         x, y = x * factor, y * factor
+        if np.any(x != 0) or np.any(y != 0):
+            self.layout = replace(self.layout, trace_x=x, trace_y=y)
         if self.layout.geometry == "3d":
             row = self.layout.grid[len(self.layout.grid) // 2]
             present = row[row >= 0]
@@ -212,41 +241,15 @@ class SeismicFile:
 
     def read_block(self, first_panel: int, stop_panel: int) -> Block:
         """Panels ``first_panel`` up to (not including) ``stop_panel``, read in one pass over their traces."""
-        info = self.info
-        if self.layout.geometry == "2d":
-            panel = Section(data=self._read_traces(np.arange(info.n_traces)), dt_ms=info.dt_ms, t0_ms=info.t0_ms,
-                            trace_spacing_m=info.trace_spacing_m, trace_numbers=self.layout.trace_numbers,
-                            name=os.path.basename(self.path))
-            return Block(0, (panel,))
-        rows = self.layout.grid[first_panel:stop_panel]
-        data = np.full(rows.shape + (info.n_samples,), np.nan, dtype=np.float32)
-        present = rows >= 0
-        data[present] = self._read_traces(rows[present])
-        panels = []
-        for offset, inline_index in enumerate(range(first_panel, stop_panel)):
-            inline_number = int(self.layout.inline_numbers[inline_index])
-            panels.append(Section(data=data[offset], dt_ms=info.dt_ms, t0_ms=info.t0_ms,
-                                  trace_spacing_m=info.trace_spacing_m, trace_numbers=self.layout.xline_numbers,
-                                  inline_number=inline_number, name=f"inline {inline_number}"))
-        return Block(first_panel, tuple(panels))
+        return self._reader.read_block(first_panel, stop_panel)
 
     def inline_panel(self, inline_index: int) -> Section:
         """The panel of one inline of a 3-D volume, NaN where a trace is missing."""
         return self.read_block(inline_index, inline_index + 1).panels[0]
 
-    def _read_traces(self, indices: np.ndarray) -> np.ndarray:
-        handle = self._file
-        out = np.empty((len(indices), self.info.n_samples), dtype=np.float32)
-        try:
-            if len(indices) and np.all(np.diff(indices) == 1):
-                out[:] = handle.trace.raw[int(indices[0]):int(indices[-1]) + 1]
-            else:
-                for row, index in enumerate(indices):
-                    out[row] = handle.trace[int(index)]
-        except (RuntimeError, OSError, ValueError) as err:
-            raise PitfallsInputError(self.path, "", f"traces cannot be read ({_one_line(err)})",
-                                     "the file may be truncated or damaged; export it again") from err
-        return out
+    def reader(self) -> "SegyBlockReader":
+        """A picklable block reader for worker processes: it opens its own read-only handle."""
+        return SegyBlockReader(self.path, self.info, self.layout)
 
     def close(self) -> None:
         self._file.close()
@@ -256,6 +259,79 @@ class SeismicFile:
 
     def __exit__(self, *exc: object) -> None:
         self.close()
+
+
+class SegyBlockReader:
+    """Reads blocks of panels of a described SEG-Y file (read-only).
+
+    It carries the file's description (``info`` and ``layout``), so a worker process can read
+    blocks without reading every header again; pickling leaves the open handle behind, and the
+    copy opens its own on first use.
+    """
+
+    def __init__(self, path: str, info: SectionInfo, layout: TraceLayout, handle: segyio.SegyFile | None = None):
+        self.path, self.info, self.layout = path, info, layout
+        self._handle = handle
+        self._owns_handle = handle is None
+
+    def __getstate__(self) -> dict:
+        return {"path": self.path, "info": self.info, "layout": self.layout}
+
+    def __setstate__(self, state: dict) -> None:
+        self.__init__(state["path"], state["info"], state["layout"])
+
+    def _file(self) -> segyio.SegyFile:
+        if self._handle is None:
+            try:
+                self._handle = segyio.open(self.path, "r", ignore_geometry=True)
+            except (RuntimeError, ValueError, OSError) as err:
+                raise PitfallsInputError(self.path, "", f"cannot be read as SEG-Y ({_one_line(err)})",
+                                         "check that the file was not changed or removed during the scan") from err
+        return self._handle
+
+    def read_block(self, first_panel: int, stop_panel: int) -> Block:
+        """Panels ``first_panel`` up to (not including) ``stop_panel``; NaN where a volume has no trace."""
+        info, layout = self.info, self.layout
+        if layout.geometry == "2d":
+            panel = Section(data=self._read_traces(np.arange(info.n_traces)), dt_ms=info.dt_ms, t0_ms=info.t0_ms,
+                            trace_spacing_m=info.trace_spacing_m, trace_numbers=layout.trace_numbers,
+                            name=os.path.basename(self.path))
+            return Block(0, (panel,))
+        rows = layout.grid[first_panel:stop_panel]
+        data = np.full(rows.shape + (info.n_samples,), np.nan, dtype=np.float32)
+        present = rows >= 0
+        data[present] = self._read_traces(rows[present])
+        panels = []
+        for offset, inline_index in enumerate(range(first_panel, stop_panel)):
+            inline_number = int(layout.inline_numbers[inline_index])
+            panels.append(Section(data=data[offset], dt_ms=info.dt_ms, t0_ms=info.t0_ms,
+                                  trace_spacing_m=info.trace_spacing_m, trace_numbers=layout.xline_numbers,
+                                  inline_number=inline_number, name=f"inline {inline_number}"))
+        return Block(first_panel, tuple(panels))
+
+    def _read_traces(self, indices: np.ndarray) -> np.ndarray:
+        """Traces by file index, in the order given; each run of consecutive indices is one read."""
+        handle = self._file()
+        indices = np.asarray(indices, dtype=np.int64)
+        out = np.empty((len(indices), self.info.n_samples), dtype=np.float32)
+        if indices.size == 0:
+            return out
+        order = np.argsort(indices, kind="stable")
+        ordered = indices[order]
+        breaks = np.flatnonzero(np.diff(ordered) != 1) + 1
+        try:
+            for run in np.split(np.arange(ordered.size), breaks):
+                first, last = int(ordered[run[0]]), int(ordered[run[-1]])
+                out[order[run]] = handle.trace.raw[first:last + 1]
+        except (RuntimeError, OSError, ValueError) as err:
+            raise PitfallsInputError(self.path, "", f"traces cannot be read ({_one_line(err)})",
+                                     "the file may be truncated or damaged; export it again") from err
+        return out
+
+    def close(self) -> None:
+        if self._handle is not None and self._owns_handle:
+            self._handle.close()
+            self._handle = None
 
 
 BYTES_PER_SAMPLE = {1: 4, 2: 4, 3: 2, 5: 4, 6: 8, 8: 1, 9: 8, 10: 4, 11: 2, 12: 8, 15: 3, 16: 1, 7: 3}

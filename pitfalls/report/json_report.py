@@ -33,6 +33,10 @@ def _range(values: tuple | None) -> list | None:
     return None if values is None else [_plain(values[0]), _plain(values[1])]
 
 
+def _corners(corners: tuple | None) -> list | None:
+    return None if corners is None else [_range(corners[0]), _range(corners[1])]
+
+
 def finding_dict(finding: Finding) -> dict[str, Any]:
     return {
         "rank": finding.rank,
@@ -46,6 +50,7 @@ def finding_dict(finding: Finding) -> dict[str, Any]:
         "inlines": _range(finding.inlines),
         "xlines": _range(finding.xlines),
         "twt_ms": _range(finding.twt_ms),
+        "footprint_xy": _corners(finding.footprint_xy),
         "title": finding.title,
         "evidence": _plain(dict(finding.evidence)),
         "advice": finding.advice,
@@ -60,7 +65,8 @@ def report_dict(result: ScanResult) -> dict[str, Any]:
         "tool_version": __version__,
         "section": {"path": info.path, "sha256": info.sha256, "geometry": info.geometry,
                     "n_traces": info.n_traces, "n_samples": info.n_samples,
-                    "dt_ms": _plain(info.dt_ms), "t0_ms": _plain(info.t0_ms)},
+                    "dt_ms": _plain(info.dt_ms), "t0_ms": _plain(info.t0_ms),
+                    "coordinate_extent_xy": _corners(info.coordinate_extent_xy)},
         "picks": [{"horizon": p.horizon, "kind": p.kind, "n_points": p.n_points, "n_gaps": p.n_gaps}
                   for p in result.picks],
         "rules": {"path": result.rules_path, "sha256": result.rules_sha256},
