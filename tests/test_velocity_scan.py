@@ -14,6 +14,7 @@ import functools
 import json
 import subprocess
 import sys
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -120,3 +121,21 @@ def test_cli_refuses_a_bad_velocity_file_in_one_line(files, tmp_path):
                           capture_output=True, text=True, timeout=120)
     assert done.returncode == 2 and done.stderr.count("\n") == 1 and "Traceback" not in done.stderr
     assert "sediment.seafloor_velocity_m_s" in done.stderr
+
+
+def test_a_project_section_uses_its_velocity_file(files, tmp_path):
+    """``velocity:`` in a project entry reaches that section's scan; a bad one fails only that section."""
+    section, picks, table = files
+    bad = tmp_path / "bad.yaml"
+    bad.write_text("sediment: {gradient_per_s: 0.8}\n")
+    copy = tmp_path / "QT24-306.sgy"
+    copy.write_bytes(Path(section).read_bytes())
+    project = tmp_path / "project.yaml"
+    project.write_text(f"sections:\n  - section: {section}\n    picks: [{picks}]\n    velocity: {table}\n"
+                       f"  - section: {copy}\n    picks: [{picks}]\n    velocity: {bad}\n")
+    done = subprocess.run([sys.executable, "-m", "pitfalls", "project", str(project), "--format", "json", "--gate",
+                           "off", "--jobs", "1"], capture_output=True, text=True, timeout=600)
+    report = json.loads(done.stdout)
+    assert [s["status"] for s in report["sections"]] == ["ran", "failed"], done.stderr
+    assert "sediment.seafloor_velocity_m_s" in report["sections"][1]["error"]
+    assert "contact.tilted" not in {f["id"] for f in report["findings"] if f["horizon"] == "GWC"}
