@@ -145,7 +145,7 @@ class VelocityModel:
         else:
             sediment = (f"sediment {self.seafloor_velocity_m_s:g} m/s + {self.gradient_per_s:g}/s x depth below "
                         f"the seafloor, at most {self.max_velocity_m_s:g} m/s")
-        origin = ("the built-in function (rules, velocity section)" if self.source == "built-in"
+        origin = ("the built-in function, from the rules' velocity section" if self.source == "built-in"
                   else f"from {self.source}")
         return f"{water}, {sediment}; {origin}"
 
