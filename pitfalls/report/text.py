@@ -29,7 +29,7 @@ SCOPE = (
 def velocity_sentence(velocity: Any) -> str:
     """Which velocity function the depths in the report came from, in words."""
     if velocity is None:
-        return "Depths come from the rules' velocity function."
+        return "Depths come from the velocity function stated for each section; a different velocity moves every depth."
     if getattr(velocity, "is_table", False):
         return (f"Depths come from the stated velocity function: {velocity.describe()}; a different velocity "
                 f"moves every depth.")
@@ -40,13 +40,18 @@ def velocity_sentence(velocity: Any) -> str:
             f"moves every depth.")
 
 
-def caution_text(result: ScanResult) -> str:
-    """The caution every report ends with: what the tool is, its scope, and, when nothing was found,
-    that this is not a clearance."""
-    parts = [CAUTION, SCOPE, velocity_sentence(getattr(result, "velocity", None))]
-    if not result.findings:
+def general_caution(found_anything: bool, velocity: Any = None) -> str:
+    """The caution, the scope and the velocity function, and, when nothing was found, that this is not
+    a clearance."""
+    parts = [CAUTION, SCOPE, velocity_sentence(velocity)]
+    if not found_anything:
         parts.append(NO_FINDINGS)
     return " ".join(parts)
+
+
+def caution_text(result: ScanResult) -> str:
+    """The caution every scan report ends with (see :func:`general_caution`)."""
+    return general_caution(bool(result.findings), getattr(result, "velocity", None))
 
 
 def location(finding: Finding) -> str:
