@@ -235,7 +235,7 @@ class Report:
         return {severity: sum(1 for f in self.findings if f.severity == severity) for severity in _SEVERITY_ORDER}
 
     def passes(self, gate: str = "high") -> bool:
-        """True when no finding reaches ``gate`` and every detector ran.
+        """True when no finding reaches ``gate`` and every detector ran; accepted findings do not count.
 
         Parameters
         ----------
@@ -259,7 +259,8 @@ class Report:
             return False
         if gate == "off":
             return True
-        return not any(_SEVERITY_ORDER[f.severity] <= _SEVERITY_ORDER[gate] for f in self.findings)
+        return not any(_SEVERITY_ORDER[f.severity] <= _SEVERITY_ORDER[gate] for f in self.findings
+                       if getattr(f, "accepted", None) is None)  # a reviewer's accepted finding is not gated
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON report (schema ``pitfalls-report/1``) as plain Python values."""

@@ -9,6 +9,7 @@ import shutil
 import subprocess
 import sys
 
+import jsonschema
 import numpy as np
 import pytest
 import segyio
@@ -109,6 +110,12 @@ def test_import_is_light_and_every_public_name_resolves():
     assert pitfalls.Finding.__name__ == "Finding" and issubclass(pitfalls.PitfallsInputError, Exception)
 
 
+def test_docstring_examples_run():
+    import doctest
+    outcome = doctest.testmod(pitfalls, optionflags=doctest.ELLIPSIS)
+    assert outcome.failed == 0 and outcome.attempted >= 1
+
+
 @pytest.mark.parametrize("name", ["scan", "load_rules", "explain", "finding_ids"])
 def test_public_functions_have_numpydoc_sections(name):
     doc = getattr(pitfalls, name).__doc__
@@ -157,6 +164,8 @@ def test_numpy_line_with_pick_columns_matches_the_same_data_as_segy(line):
     assert memory.section.path == "(in memory)" and re.fullmatch("[0-9a-f]{64}", memory.section.sha256)
     assert any(f.id == "pick.cycle-skip" and f.horizon == "Sand top" for f in memory.findings)
     memory_json, file_json = json.loads(memory.to_json()), json.loads(from_file.to_json())
+    with open(os.path.join(ROOT, "pitfalls", "data", "report.schema.json"), encoding="utf-8") as handle:
+        jsonschema.validate(memory_json, json.load(handle))
     for document in (memory_json, file_json):
         document.pop("section"), document.pop("detectors")
     assert memory_json == file_json
