@@ -71,6 +71,18 @@ def build_parser() -> argparse.ArgumentParser:
     describe.add_argument("--xline-byte", type=int, metavar="N", help="trace-header byte of the crossline number (default 193)")
     describe.add_argument("--2d", dest="force_2d", action="store_true", help="read the file as a 2-D line in trace order")
 
+    project = commands.add_parser("project", help="scan every section of a project file and tie them where they cross")
+    project.add_argument("project", metavar="PROJECT.yaml", help="project file listing the sections and their picks")
+    project.add_argument("--format", choices=("terminal", "json", "markdown"), default="terminal")
+    project.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
+    project.add_argument("--gate", choices=("high", "medium", "low", "off"), default="high",
+                         help="exit 1 when a finding is at least this severe (default high; off never fails on findings)")
+    project.add_argument("--jobs", type=int, default=os.cpu_count() or 1, metavar="N",
+                         help="worker processes, or Dask workers with --scheduler local (default: the machine's cores)")
+    project.add_argument("--scheduler", metavar="ADDRESS|local",
+                         help="run the sections on the Dask scheduler at ADDRESS, or on a new local Dask cluster "
+                              '(needs pip install -e ".[dask]")')
+
     demo = commands.add_parser("demo", help="write the bundled demo scenario, then scan it")
     demo.add_argument("--out", metavar="DIR", default="pitfalls-demo", help="folder for the demo files (default ./pitfalls-demo)")
 
@@ -224,6 +236,42 @@ def _describe(args: argparse.Namespace, stdout: Console) -> int:
     return EXIT_OK
 
 
+def _project(args: argparse.Namespace, stdout: Console) -> int:
+    from pitfalls.io.project import read_project
+    from pitfalls.io.scheduler import open_runner
+    from pitfalls.project import run_project
+    from pitfalls.report import project as project_report
+    project = read_project(args.project)
+    rules, rules_path, rules_sha = _load_rules(project.rules_path)
+    if args.output:
+        inputs = {os.path.abspath(args.project)} | {os.path.abspath(p) for s in project.sections
+                                                     for p in (s.path, *s.pick_paths)}
+        if os.path.abspath(args.output) in inputs:
+            raise PitfallsInputError(args.output, "", "is one of the input files",
+                                     "write the output somewhere else; inputs are never changed")
+    with open_runner(args.jobs, args.scheduler) as runner:
+        result = run_project(project, rules, rules_path, rules_sha, runner)
+    if args.format == "json":
+        text = json.dumps(project_report.report_dict(result), indent=2) + "\n"
+    elif args.format == "markdown":
+        text = project_report.render_markdown(result)
+    else:
+        buffer = io.StringIO()
+        Console(file=buffer, width=120, color_system=None, force_terminal=False).print(
+            project_report.render_terminal(result))
+        text = buffer.getvalue()
+    if args.output:
+        write_atomically(args.output, text)
+    elif args.format == "terminal":
+        stdout.print(project_report.render_terminal(result))
+    else:
+        sys.stdout.write(text)
+        sys.stdout.flush()
+    if result.failed or result.reaches(args.gate):
+        return EXIT_FINDINGS
+    return EXIT_OK
+
+
 def _demo(args: argparse.Namespace, stdout: Console) -> int:
     from pitfalls.engine import scan
     from pitfalls.modelling.demo import write_demo
@@ -290,6 +338,8 @@ def main(argv: Sequence[str] | None = None) -> int:
             return _describe(args, stdout)
         if args.command == "demo":
             return _demo(args, stdout)
+        if args.command == "project":
+            return _project(args, stdout)
         if args.command == "rules":
             return _rules(args)
         if args.command == "explain":

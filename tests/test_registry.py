@@ -8,8 +8,8 @@ from pitfalls.io.rules import BUILT_IN, CORE_KEYS, default_rules_bytes, load_rul
 def test_rule_keys_match_default_yaml():
     """Every detector's RULE_KEYS and its rules/default.yaml section hold the same keys, and no section is orphaned."""
     defaults = yaml.safe_load(default_rules_bytes().decode("utf-8"))
-    assert set(defaults) == set(CORE_KEYS) | set(detectors.BY_NAME)
-    for module in detectors.DETECTORS:
+    assert set(defaults) == set(CORE_KEYS) | set(detectors.BY_NAME) | {m.NAME for m in detectors.PROJECT_CHECKS}
+    for module in detectors.DETECTORS + detectors.PROJECT_CHECKS:
         assert set(defaults[module.NAME]) == set(module.RULE_KEYS), module.NAME
 
 
@@ -22,7 +22,7 @@ def test_defaults_validate():
 def test_every_kind_has_three_texts_and_a_contract_family():
     kinds = detectors.finding_kinds()
     assert {"pick.cycle-skip", "pick.polarity-flip", "multiple.seafloor", "contact.conformable",
-            "crosscut.hydrate-like"} <= set(kinds)
+            "crosscut.hydrate-like", "pick.mis-tie"} <= set(kinds)
     for finding_id, (detector, texts) in kinds.items():
         family, _, kind = finding_id.partition(".")
         assert family in {"multiple", "contact", "crosscut", "overburden", "pick"} and kind, finding_id
@@ -30,7 +30,7 @@ def test_every_kind_has_three_texts_and_a_contract_family():
 
 
 def test_detectors_have_unique_names_and_docstrings():
-    names = [module.NAME for module in detectors.DETECTORS]
+    names = [module.NAME for module in detectors.DETECTORS + detectors.PROJECT_CHECKS]
     assert len(names) == len(set(names))
-    for module in detectors.DETECTORS:
+    for module in detectors.DETECTORS + detectors.PROJECT_CHECKS:
         assert module.__doc__ and "References" in module.__doc__, module.NAME

@@ -71,7 +71,7 @@ def test_shipped_defaults_load_with_the_registered_detectors():
     rules, used, digest = load_rules(None, detectors.rule_keys())
     assert used == BUILT_IN == "built-in defaults"  # never a path inside the installation
     assert digest == hashlib.sha256(default_rules_bytes()).hexdigest()
-    assert set(rules) == set(CORE_KEYS) | set(detectors.BY_NAME)
+    assert set(rules) == set(CORE_KEYS) | set(detectors.BY_NAME) | {m.NAME for m in detectors.PROJECT_CHECKS}
 
 
 # --- merging ----------------------------------------------------------------------------
