@@ -4,7 +4,7 @@ The Python interface, for notebooks and pipelines. The command line is a thin la
 both give the same report for the same inputs.
 
 >>> import pitfalls
->>> report = pitfalls.scan("demo_data/QT24-117.sgy", picks="demo_data/QT24-117_picks.csv")  # doctest: +SKIP
+>>> report = pitfalls.scan("demo_data/OT25-117.sgy", picks="demo_data/OT25-117_picks.csv")  # doctest: +SKIP
 >>> report.passes(gate="high")  # doctest: +SKIP
 False
 

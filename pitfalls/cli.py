@@ -49,6 +49,10 @@ def build_parser() -> argparse.ArgumentParser:
     scan.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
     scan.add_argument("--annotated-picks", metavar="FILE.csv", help="write the pick rows back with their findings")
     scan.add_argument("--figure", metavar="FILE.png", help="draw the section, picks and findings (needs matplotlib)")
+    scan.add_argument("--map", metavar="FILE.png",
+                      help="3-D: draw each horizon's time map with the findings' footprints (needs matplotlib)")
+    scan.add_argument("--geojson", metavar="FILE",
+                      help="write the findings' footprints as GeoJSON in the survey's CDP X/Y")
     scan.add_argument("--gate", choices=("high", "medium", "low", "off"), default="high",
                       help="exit 1 when a finding is at least this severe (default high; off: only a failed "
                            "detector exits 1)")
@@ -130,10 +134,10 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
                                  "use --2d for a line, or the byte options for a 3-D volume")
     only = [name.strip() for name in args.only.split(",") if name.strip()] if args.only else None
     rules, rules_path, rules_sha = _load_rules(args.rules)
-    for target in (args.output, args.annotated_picks, args.figure):
+    for target in (args.output, args.annotated_picks, args.figure, args.map, args.geojson):
         if target and os.path.abspath(target) in {os.path.abspath(p) for p in [args.section, *args.picks]}:
             raise PitfallsInputError(target, "", "is one of the input files", "write the output somewhere else; inputs are never changed")
-    if args.figure:
+    if args.figure or args.map:
         from pitfalls.report.figure import require_matplotlib
         require_matplotlib()
     jobs = _jobs(args.jobs)
@@ -153,6 +157,20 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.figure:
         from pitfalls.report.figure import draw
         write_atomically(args.figure, draw(result, rules))
+    if args.map:
+        if result.map_view is None:
+            raise PitfallsInputError("--map", "", f"{args.section} is a 2-D line; a map needs a 3-D volume",
+                                     "use --figure for a line")
+        from pitfalls.report.map_figure import draw_map
+        write_atomically(args.map, draw_map(result))
+    if args.geojson:
+        from pitfalls.report.geojson import feature_collection
+        if result.coordinates is None or not result.coordinates.from_headers:
+            raise PitfallsInputError(args.section, "trace header bytes 181/185",
+                                     "hold no CDP X/Y coordinates, so the findings have no place on a map",
+                                     "write the coordinates into the SEG-Y headers, or leave out --geojson")
+        collection = feature_collection(result.findings, result.coordinates, args.section)
+        write_atomically(args.geojson, json.dumps(collection, indent=1) + "\n")
     if result.failed or result.reaches(args.gate):
         return EXIT_FINDINGS
     return EXIT_OK

@@ -20,8 +20,8 @@ from pitfalls.modelling.section import model_section
 from pitfalls.modelling.segy_writer import write_picks_csv, write_section_segy, write_volume_segy
 
 ROOT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
-DEMO_SEGY = os.path.join(ROOT, "demo_data", "QT24-117.sgy")
-DEMO_PICKS = os.path.join(ROOT, "demo_data", "QT24-117_picks.csv")
+DEMO_SEGY = os.path.join(ROOT, "demo_data", "OT25-117.sgy")
+DEMO_PICKS = os.path.join(ROOT, "demo_data", "OT25-117_picks.csv")
 
 
 def run_cli(*args, cwd=None):
@@ -365,7 +365,7 @@ def test_html_lists_every_finding_in_rank_order_and_the_caution(demo_report):
     page = demo_report._repr_html_()
     rows = re.findall(r"<tr><td>(\d+)</td><td>(\w+)</td><td>([a-z0-9.-]+)</td>", page)
     assert rows == [(str(f.rank), f.severity, f.id) for f in demo_report.findings]
-    assert "does not replace review" in page and "QT24-117.sgy" in page
+    assert "does not replace review" in page and "OT25-117.sgy" in page
 
 
 def test_figure_is_a_matplotlib_figure_of_an_array(line):
@@ -402,7 +402,7 @@ def test_readme_examples_run(volume, tmp_path, monkeypatch, capsys):
     monkeypatch.chdir(ROOT)
     exec(compile(on_demo, "README example on the demo files", "exec"), {})
     printed = capsys.readouterr().out
-    assert "<pitfalls.Report demo_data/QT24-117.sgy:" in printed and "What to check:" in printed
+    assert "<pitfalls.Report demo_data/OT25-117.sgy:" in printed and "What to check:" in printed
     assert "a high finding: look before the hand-over" in printed
     # the volume example names survey.sgy: give it the modelled volume under that name
     shutil.copyfile(volume["segy"], tmp_path / "survey.sgy")

@@ -34,3 +34,25 @@ def test_detectors_have_unique_names_and_docstrings():
     assert len(names) == len(set(names))
     for module in detectors.DETECTORS + detectors.PROJECT_CHECKS:
         assert module.__doc__ and "References" in module.__doc__, module.NAME
+
+
+def test_texts_name_their_sources_and_do_not_overstate():
+    """The explain texts and the rules comments a geophysicist reads: full citations, no pointers to
+    files users do not have, and the wording the physics allows."""
+    import pathlib
+    root = pathlib.Path(__file__).resolve().parents[1]
+    rules_text = (root / "rules" / "default.yaml").read_text(encoding="utf-8")
+    kinds = detectors.finding_kinds()
+    texts = " ".join(" ".join(value) for _, value in kinds.values())
+    assert "REFERENCES" not in rules_text and "REFERENCES" not in texts
+    assert "static aquifer allows" not in texts
+    tilted = " ".join(kinds["contact.tilted"][1])
+    for cause in ("flowing water", "capillary", "reservoir quality", "fault compartments", "depth-conversion",
+                  "miscorrelation"):
+        assert cause in tilted, cause
+    assert "pressure-temperature boundary" in " ".join(kinds["crosscut.hydrate-like"][1])
+    assert "attenuation below" in kinds["crosscut.hydrate-like"][1][2]
+    assert "2-D line" in " ".join(kinds["contact.outside-closure"][1])
+    assert "?" in kinds["pick.polarity-flip"][1][0] and "gas" in kinds["pick.polarity-flip"][1][1]
+    assert "-2R/(1 + R^2)" in rules_text and "rho ~ -R" not in rules_text
+    assert "usual picking accuracy" not in rules_text and "Fresnel" not in rules_text

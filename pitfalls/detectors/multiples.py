@@ -463,6 +463,9 @@ def _measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low, high
         evidence["seafloor_reflection_coefficient_implied"] = implied
         evidence["seafloor_reflection_coefficient_plausible"] = plausible
         evidence["gain_exponent_assumed"] = float(gain)
+        evidence["seafloor_reflection_coefficient_basis"] = (
+            "qualitative: assumes the stated gain; a stack's real gain (AGC, spreading correction, demultiple) "
+            "is unknown")
         f_amplitude = 1.0 if plausible else 0.0
     elif ratio.size:
         evidence["amplitude_ratio"] = float(np.median(ratio))

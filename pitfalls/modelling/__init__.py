@@ -8,5 +8,5 @@
 - ``segy_writer``: SEG-Y rev 1 lines and volumes, pick-file CSV, written atomically.
 - ``grid``: a map-view earth under a grid of crossing 2-D lines and small volumes, with planted
   line statics and mis-picks, and the project file that lists them.
-- ``demo``: the invented Quillon Trough line with planted picking mistakes.
+- ``demo``: the invented Ondravel Trough line with planted picking mistakes.
 """

@@ -1,7 +1,9 @@
 """Seafloor-parallel reflectors that cut across strata, and the hydrate stability base they may mark.
 
-Bottom-simulating events follow an isotherm, so they keep a nearly constant two-way time
-below the seafloor while the bedding around them dips at its own angle. The section is
+Bottom-simulating events keep a nearly constant two-way time below the seafloor while the
+bedding around them dips at its own angle: a diagenetic front (opal-A to opal-CT) follows an
+isotherm, and the base of gas-hydrate stability follows a pressure-temperature boundary, so it
+lies deeper below the seafloor where the water is deeper. The section is
 mapped to time below the seafloor (each trace shifted so that the seafloor is at zero);
 there a bottom-simulating event is horizontal. Two lateral coherences are compared:
 
@@ -516,7 +518,7 @@ def water_layer_peg_leg_flags(stack: np.ndarray, stack_envelope: np.ndarray, dt_
     """Per point, whether it could be the water-layer peg-leg of a shallower event (Backus 1959).
 
     A peg-leg of a reflector at time ``t_r`` below the seafloor arrives one seafloor time later,
-    ``t_r + t_sf``, with amplitude ``-2 R_sf A`` (REFERENCES item 1): the opposite sign of its
+    ``t_r + t_sf``, with amplitude ``-2 R_sf A`` (Backus 1959): the opposite sign of its
     parent in the data (``R_sf > 0``) and, for ``R_sf`` up to 0.5, no stronger. With the seafloor
     itself as the parent (``t_r = 0``) this is the first seafloor multiple at ``2 t_sf``.
 
