@@ -41,6 +41,7 @@ __all__ = [
     "Finding",
     "PitfallsInputError",
     "GATES",
+    "default_jobs",
 ]
 
 GATES = ("high", "medium", "low", "off")
@@ -425,7 +426,9 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
     only : str or sequence of str, optional
         Run only these detectors (``"multiples,contacts"`` or a list); all when None.
     jobs : int, optional
-        Worker processes for the scan; None lets the engine choose.
+        Worker processes for the blocks of a volume; the report is the same for any number.
+        None: one per available core for a file, 1 for an array (each worker process would
+        need its own copy of the array).
     dt_ms, t0_ms : float
         For an array: the sample interval (required) and the time of the first sample
         (default 0), in ms.
@@ -446,7 +449,7 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
     force_2d : bool
         For a SEG-Y file: read it as a line in trace order.
     progress : callable, optional
-        Called as ``progress(done, total)`` as the scan goes.
+        Called after every block as ``progress(panels_done, panels_total, samples_done)``.
 
     Returns
     -------
@@ -501,8 +504,21 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
         with SeismicFile(source, values["section"]["fallback_trace_spacing_m"], iline_byte or DEFAULT_INLINE_BYTE,
                          xline_byte or DEFAULT_XLINE_BYTE, force_2d) as seismic:
             result = engine.scan_source(seismic, pick_files, values, active.path, active.sha256, detectors,
-                                        progress=progress, jobs=jobs)
+                                        progress=progress, jobs=default_jobs() if jobs is None else jobs)
         return Report(result, active)
     result = engine.scan_source(source, pick_files, values, active.path, active.sha256, detectors, progress=progress,
-                                jobs=jobs)
+                                jobs=1 if jobs is None else jobs)
     return Report(result, active, source)
+
+
+def default_jobs() -> int:
+    """Worker processes a scan of a file uses unless told: one per core this process may use.
+
+    Returns
+    -------
+    int
+    """
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # platforms without CPU affinity
+        return max(1, os.cpu_count() or 1)

@@ -411,3 +411,21 @@ def test_readme_examples_run(volume, tmp_path, monkeypatch, capsys):
     printed = capsys.readouterr().out
     assert printed.startswith("# pitfalls scan") and "(in memory) (3D, 3 inlines x 40 crosslines" in printed
     assert "Rules: rules mapping" in printed
+
+
+def test_array_volume_in_worker_processes_matches_one_process(volume):
+    """The array source pickles into worker processes; any number of them gives the same report."""
+    import pickle
+
+    from pitfalls import engine
+    from pitfalls.io.array import ArraySource
+    from pitfalls.io.picks import read_pick_file
+    rules = pitfalls.load_rules()
+    source = ArraySource(volume["data"], dt_ms=DT_MS, fallback_spacing_m=12.5, inline_numbers=volume["inlines"],
+                         xline_numbers=volume["xlines"])
+    copy = pickle.loads(pickle.dumps(source.reader()))
+    np.testing.assert_array_equal(copy.read_block(1, 3).panels[1].data, source.read_block(1, 3).panels[1].data)
+    picks = [read_pick_file(volume["picks"])]
+    runs = [engine.scan_source(source, picks, rules.to_dict(), rules.path, rules.sha256, engine.select_detectors(None),
+                               jobs=jobs, inlines_per_block=1) for jobs in (1, 2)]
+    assert [f.rank for f in runs[0].findings] and runs[0].findings == runs[1].findings

@@ -6,8 +6,9 @@ the time of the first sample in ms, the trace numbers of a line (default 1..n) o
 and crossline numbers of a volume (default 1..n each), and optionally the traces' X/Y
 coordinates in metres or the trace spacing.
 
-The source offers what the SEG-Y reader offers (``info``, ``layout``, ``n_panels``, ``blocks()``,
-``panels()``, ``inline_panel()``), so the scan cannot tell a file from an array. Like a file's, the array is
+The source offers what the SEG-Y reader offers (``info``, ``layout`` with the coordinates when
+given, ``n_panels``, ``read_block()``, ``blocks()``, ``panels()``, ``inline_panel()``, ``reader()``
+for worker processes), so the scan cannot tell a file from an array. Like a file's, the array is
 never changed: panels are float32 copies.
 
 Checks, each a :class:`PitfallsInputError` naming the argument and what to fix: the shape, a
@@ -155,6 +156,7 @@ class ArraySource:
                        else _numbers(trace_numbers, n_traces, "trace_numbers", name))
             ilines = np.ones(n_traces, dtype=np.int64)
             self.layout = TraceLayout("2d", n_traces, numbers, ilines, numbers.copy())
+            order = np.arange(n_traces)
             flat_shape: tuple[int, ...] = (n_traces,)
             shape = (1, n_traces)
             n_missing = 0
@@ -171,6 +173,7 @@ class ArraySource:
                 trace_il = np.repeat(il, n_xl)
                 trace_xl = np.tile(xl, n_il)
                 self.layout = TraceLayout("2d", n_traces, np.arange(1, n_traces + 1), trace_il, trace_xl)
+                order = np.arange(n_traces)
                 shape = (1, n_traces)
                 n_missing = 0
             else:
@@ -191,6 +194,9 @@ class ArraySource:
             trace_x, trace_y = np.asarray(x, float).ravel()[keep], np.asarray(y, float).ravel()[keep]
             if np.any(trace_x != 0) or np.any(trace_y != 0):
                 self.layout = replace(self.layout, trace_x=trace_x, trace_y=trace_y)
+        if coordinates is not None:
+            x, y = _coordinates(coordinates, flat_shape, name)
+            self.layout = replace(self.layout, trace_x=x.reshape(-1)[order], trace_y=y.reshape(-1)[order])
         spacing_m, measured = self._spacing(trace_spacing_m, coordinates, flat_shape, fallback_spacing_m, name)
         if not measured:
             notes.append(f"no coordinates or trace spacing given; trace spacing {fallback_spacing_m:g} m from the rules")
@@ -271,6 +277,10 @@ class ArraySource:
 
     def reader(self) -> "ArraySource":
         """The block reader for worker processes: this source itself (pickled with its array)."""
+        return self
+
+    def reader(self) -> "ArraySource":
+        """The block reader for worker processes: the source itself, which pickles with its array."""
         return self
 
     def close(self) -> None:
