@@ -16,7 +16,7 @@ from rich.text import Text
 from pitfalls import __version__
 from pitfalls.describe import Description
 from pitfalls.report.json_report import _plain
-from pitfalls.report.text import CAUTION, number
+from pitfalls.report.text import CAUTION, SCOPE, number
 
 SCHEMA = "pitfalls-description/1"
 DESCRIPTION_NOTE = (
@@ -46,7 +46,7 @@ def description_dict(description: Description) -> dict[str, Any]:
         "intervals": [dict(entry) for entry in description.intervals],
         "horizons": [dict(entry) for entry in description.horizons],
         "note": DESCRIPTION_NOTE,
-        "caution": CAUTION,
+        "caution": f"{CAUTION} {SCOPE}",
     })
 
 
@@ -108,7 +108,7 @@ def render_markdown(description: Description) -> str:
     lines += ["## Along the picks", "", "| horizon | kind | where | description |", "|---|---|---|---|"]
     for entry in description.horizons:
         lines.append(f"| {entry['horizon']} | {entry['kind']} | {_where(entry)} | {_horizon_sentence(entry)} |")
-    lines += ["", DESCRIPTION_NOTE, "", "## Caution", "", CAUTION, ""]
+    lines += ["", DESCRIPTION_NOTE, "", "## Caution", "", f"{CAUTION} {SCOPE}", ""]
     return "\n".join(lines)
 
 
@@ -144,5 +144,5 @@ def render_terminal(description: Description) -> Group:
     parts: list = [Panel(header, title="pitfalls describe", border_style="blue"), intervals]
     if stretches:
         parts.append(Text("Where along the line:\n" + "\n".join(stretches)))
-    parts += [horizons, Panel(Text(CAUTION), title="Caution", border_style="magenta")]
+    parts += [horizons, Panel(Text(f"{CAUTION} {SCOPE}"), title="Caution", border_style="magenta")]
     return Group(*parts)
