@@ -297,6 +297,7 @@ def _project(args: argparse.Namespace, stdout: Console) -> int:
     elif args.format == "markdown":
         text = project_report.render_markdown(result)
     else:
+        from rich.console import Console
         buffer = io.StringIO()
         Console(file=buffer, width=120, color_system=None, force_terminal=False).print(
             project_report.render_terminal(result))
