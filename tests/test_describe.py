@@ -219,3 +219,32 @@ def test_frequency_along_an_isolated_reflection(rules):
     mid = next(h for h in description.horizons if h["horizon"] == "mid")
     assert mid["frequency"]["dominant_hz"] == pytest.approx(FREQUENCY_HZ, abs=1.5)
     assert mid["amplitude"]["envelope_lateral_variation"] < 0.01
+
+
+def test_automatic_seafloor_bounds_the_first_interval(rules):
+    """Without a seafloor pick the automatic seafloor (the strong event at 200 ms) is the first bound."""
+    base = np.full(N_TRACES, 800.0)
+    picks = Picks(picks_of(base).horizons[1:])
+    description = describe_section(section_of(bound(background(), base)), picks, rules)
+    assert [(i["top"], i["base"]) for i in description.intervals][0] == ("seafloor (automatic)", "top")
+    assert description.seafloor_source == "automatic"
+
+
+def test_inclined_reflections_downlap_onto_a_flat_base_and_are_truncated_at_a_flat_top(rules):
+    """Reflections dipping 1.5 ms per trace (deeper to the right) every 40 ms between a flat top and a
+    flat base, cut by both: each ends at its own down-dip end against the base (downlap) and meets
+    the top at an undiminished angle (truncation) (Mitchum, Vail and Sangree 1977, from memory)."""
+    base = np.full(N_TRACES, 800.0)
+    reflectivity = clear(background(), base)
+    rng = np.random.default_rng(8)
+    traces = np.arange(N_TRACES)
+    for start in np.arange(100.0, 800.0, 40.0):
+        twt = start + 1.5 * traces
+        inside = (twt > TOP_MS + 8.0) & (twt < 800.0 - 8.0)
+        reflectivity[traces[inside], [sample(t) for t in twt[inside]]] = rng.choice([-1, 1]) * rng.uniform(0.15, 0.3)
+    description = describe_section(section_of(bound(reflectivity, base)), picks_of(base), rules)
+    unit = interval(description)
+    assert unit["configuration"]["base_termination"] == "downlap"
+    assert unit["configuration"]["top_termination"] == "truncation"
+    assert unit["configuration"]["thickening"] == "none"
+    assert unit["configuration"]["class"] in ("parallel", "subparallel")

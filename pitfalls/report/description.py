@@ -26,8 +26,9 @@ DESCRIPTION_NOTE = (
 )
 
 
-def description_dict(description: Description) -> dict[str, Any]:
-    """The whole description as the contract lays it out."""
+def description_dict(description: Description, rules_path: str | None = None,
+                     rules_sha256: str | None = None) -> dict[str, Any]:
+    """The whole description as the contract lays it out (with the rules file used, when given)."""
     info = description.section
     velocity = description.velocity
     return _plain({
@@ -43,6 +44,7 @@ def description_dict(description: Description) -> dict[str, Any]:
                                  "seafloor_velocity_m_s": velocity.seafloor_velocity_m_s,
                                  "gradient_per_s": velocity.gradient_per_s,
                                  "max_velocity_m_s": velocity.max_velocity_m_s}},
+        "rules": {"path": rules_path, "sha256": rules_sha256},
         "intervals": [dict(entry) for entry in description.intervals],
         "horizons": [dict(entry) for entry in description.horizons],
         "note": DESCRIPTION_NOTE,
