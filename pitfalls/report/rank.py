@@ -3,11 +3,11 @@
 One event, one finding. Two findings describe the same event when they are about the same
 pick (or both about the section alone), their time windows overlap, and their trace ranges
 (inline and crossline ranges on a volume) share at least ``ranking.merge_min_overlap`` of the
-shorter range. Joined findings, strongest first, keep the id, title, advice and confidence of
-the strongest (most severe; at equal severity a specific id before a generic one such as
-``contact.unpicked-flat-event``; then the most confident: another member's confidence is in a
-different claim), the union of the ranges (and of the map footprints), and every member's
-evidence: the other members' numbers under keys prefixed with their id, their ids in
+shorter range. Joined findings, strongest first, keep the id, title, advice, confidence and
+place (ranges and map footprint) of the strongest (most severe; at equal severity a specific id
+before a generic one such as ``contact.unpicked-flat-event``; then the most confident: another
+member's confidence and range belong to a different claim), and every member's evidence: the
+other members' numbers and ranges under keys prefixed with their id, their ids in
 ``evidence["merged_ids"]``, and every detector in ``detectors``.
 
 Every high finding comes before every medium one, and every medium before every low one.
@@ -97,12 +97,6 @@ def _strength(finding: Finding) -> tuple:
     return (SEVERITY_ORDER[finding.severity], finding.id in GENERIC_IDS, -finding.confidence, finding.id)
 
 
-def _span(a: tuple | None, b: tuple | None) -> tuple | None:
-    if a is None or b is None:
-        return a if b is None else b
-    return (min(a[0], b[0]), max(a[1], b[1]))
-
-
 def _join(members: Sequence[Finding]) -> Finding:
     """One finding from an event's members, strongest first."""
     lead = members[0]
@@ -110,23 +104,19 @@ def _join(members: Sequence[Finding]) -> Finding:
         return replace(lead, detectors=lead.detectors or (lead.detector,))
     evidence: dict[str, Any] = dict(lead.evidence)
     merged_ids: list[str] = []
-    traces, twt_ms, inlines, xlines = lead.traces, lead.twt_ms, lead.inlines, lead.xlines
     also = []
     for member in members[1:]:
         merged_ids.append(member.id)
         for key, value in member.evidence.items():
             evidence[f"{member.id}.{key}"] = value
-        traces, twt_ms = _span(traces, member.traces), _span(twt_ms, member.twt_ms)
-        inlines, xlines = _span(inlines, member.inlines), _span(xlines, member.xlines)
+        for name in ("traces", "inlines", "xlines", "twt_ms"):  # where the member itself lies
+            if getattr(member, name) is not None:
+                evidence[f"{member.id}.{name}"] = list(getattr(member, name))
         also.append(f"{member.id} ({member.severity}): {member.title}")
     evidence["merged_ids"] = merged_ids
-    boxes = [m.footprint_xy for m in members if getattr(m, "footprint_xy", None) is not None]
-    footprint = (((min(b[0][0] for b in boxes), min(b[0][1] for b in boxes)),
-                  (max(b[1][0] for b in boxes), max(b[1][1] for b in boxes))) if boxes else None)
     detectors = tuple(sorted({d for m in members for d in (m.detectors or (m.detector,))}))
     advice = lead.advice + " The same event was also found as " + "; ".join(also) + "."
-    return replace(lead, traces=traces, twt_ms=twt_ms, inlines=inlines, xlines=xlines, footprint_xy=footprint,
-                   evidence=evidence, advice=advice, detectors=detectors)
+    return replace(lead, evidence=evidence, advice=advice, detectors=detectors)
 
 
 def merge_events(findings: Sequence[Finding], min_overlap: float) -> list[Finding]:

@@ -90,13 +90,14 @@ def test_two_detectors_on_one_event_give_one_finding_with_both_evidences():
     other = event("contact.unpicked-flat-event", "contacts", "low", 0.8, traces=(1, 98), twt_ms=(2064.0, 2148.0))
     ranked = rank_findings([flat, boundary, other], INFO, RANKING)
     assert len(ranked) == 2
-    joined = next(f for f in ranked if f.traces == (130, 594))
+    joined = next(f for f in ranked if f.traces == (204, 416))
     assert (joined.id, joined.severity, joined.detector) == ("contact.unpicked-flat-event", "medium", "contacts")
     assert joined.detectors == ("contacts", "crosscut")
     assert joined.evidence["merged_ids"] == ["crosscut.diagenetic-like"]
     assert joined.evidence["crosscut.diagenetic-like.length_traces"] == 465
     assert joined.confidence == pytest.approx(0.94)
-    assert joined.twt_ms == (2088.0, 2232.0)
+    assert joined.traces == (204, 416) and joined.twt_ms == (2100.0, 2160.0)  # the lead's place
+    assert joined.evidence["crosscut.diagenetic-like.traces"] == [130, 594]  # the member's own, in its evidence
 
 
 def test_at_equal_severity_the_specific_id_names_the_event():
