@@ -221,6 +221,11 @@ class Report:
         self.detectors: tuple[DetectorRun, ...] = result.detectors
 
     @property
+    def scan_result(self) -> "ScanResult":
+        """The engine's complete result, as the report writers in ``pitfalls.report`` read it."""
+        return self._result
+
+    @property
     def seafloor(self) -> "SeafloorSummary":
         """The seafloor every check was measured against: source, polarity, median time, dominant frequency."""
         return self._result.seafloor
@@ -288,6 +293,11 @@ class Report:
         buffer = io.StringIO()
         Console(file=buffer, width=width, color_system=None, force_terminal=False).print(render(self._result))
         return buffer.getvalue()
+
+    def __rich__(self) -> Any:
+        """The terminal report as rich renderables, so ``rich.print(report)`` shows it in colour."""
+        from pitfalls.report.terminal import render
+        return render(self._result)
 
     def to_records(self) -> list[dict[str, Any]]:
         """One plain dict per finding, in rank order, with the JSON report's keys.

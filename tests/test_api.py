@@ -429,3 +429,15 @@ def test_array_volume_in_worker_processes_matches_one_process(volume):
     runs = [engine.scan_source(source, picks, rules.to_dict(), rules.path, rules.sha256, engine.select_detectors(None),
                                jobs=jobs, inlines_per_block=1) for jobs in (1, 2)]
     assert [f.rank for f in runs[0].findings] and runs[0].findings == runs[1].findings
+
+
+def test_text_views_of_the_report(demo_report):
+    import io
+
+    from rich.console import Console
+    text = demo_report.to_text(width=100)
+    buffer = io.StringIO()
+    Console(file=buffer, width=100, color_system=None, force_terminal=False).print(demo_report)
+    assert buffer.getvalue() == text
+    assert demo_report.findings[0].title.split()[0] in text and "Caution" in text
+    assert repr(demo_report).startswith("<pitfalls.Report ") and f"{len(demo_report.findings)} findings" in repr(demo_report)
