@@ -71,6 +71,8 @@ class ScanResult:
     """A volume's picks as surfaces (:class:`pitfalls.maps.SurveyView`), for the map figure; None for a line."""
     coordinates: Any = None
     """Where the traces lie (:class:`pitfalls.report.geojson.SurveyCoordinates`), for GeoJSON footprints."""
+    velocity: VelocityModel | None = None
+    """The velocity function every depth in the report came from (None: not recorded)."""
 
     @property
     def failed(self) -> tuple[DetectorRun, ...]:
@@ -202,7 +204,7 @@ def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any]
         section=info, pick_files=tuple(pick_files), picks=_summaries(placed), rules_path=rules_path,
         rules_sha256=rules_sha256, detectors=runs, findings=rank_findings(findings, info, rules["ranking"]),
         seafloor=_seafloor_summary(outcomes), map_view=map_view,
-        coordinates=_coordinates(source.layout, map_view))
+        coordinates=_coordinates(source.layout, map_view), velocity=velocity)
 
 
 def _coordinates(layout, map_view):
