@@ -208,11 +208,13 @@ class Report:
         The rules the scan used.
     """
 
-    def __init__(self, result: "ScanResult", rules: Rules, source: Any = None) -> None:
+    def __init__(self, result: "ScanResult", rules: Rules, source: Any = None,
+                 file_options: Mapping[str, Any] | None = None) -> None:
         from types import MappingProxyType
         from dataclasses import replace
         self._result = result
         self._source = source
+        self._file_options = dict(file_options or {})
         self.rules = rules
         self.findings: tuple[Finding, ...] = tuple(
             replace(f, evidence=MappingProxyType(dict(f.evidence))) for f in result.findings)
@@ -308,8 +310,14 @@ class Report:
         from pitfalls.report.json_report import finding_dict
         return [finding_dict(f) for f in self._result.findings]
 
-    def figure(self) -> Any:
+    def figure(self, colours: str | None = None) -> Any:
         """The section with the picks and the best-ranked findings drawn over it.
+
+        Parameters
+        ----------
+        colours : str, optional
+            A matplotlib colour map name for the amplitudes (default: grey, the seafloor
+            reflection's sign dark), as ``--figure-colours``.
 
         Returns
         -------
@@ -321,8 +329,22 @@ class Report:
         PitfallsInputError
             When matplotlib is not installed (``pip install "pitfalls[figure]"``).
         """
-        from pitfalls.report.figure import make_figure
-        return make_figure(self._result, self.rules, self._source)
+        from pitfalls.report.figure import DEFAULT_COLOUR_MAP, make_figure, require_matplotlib
+        require_matplotlib()
+        colour_map = DEFAULT_COLOUR_MAP if colours is None else colours
+        if self._source is not None:
+            return make_figure(self._result, self.rules, self._source, colour_map)
+        from pitfalls.io.segy import SeismicFile  # the file again, read as the scan read it
+        with SeismicFile(self.section.path, self.rules["section"]["fallback_trace_spacing_m"],
+                         **self._file_options) as seismic:
+            return make_figure(self._result, self.rules, seismic, colour_map)
+
+    def figure_png(self, colours: str | None = None) -> bytes:
+        """:meth:`figure` as PNG bytes, as ``--figure FILE.png`` writes it."""
+        import io
+        buffer = io.BytesIO()
+        self.figure(colours).savefig(buffer, format="png")
+        return buffer.getvalue()
 
     def _repr_html_(self) -> str:
         import html
@@ -515,7 +537,9 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
                          xline_byte or DEFAULT_XLINE_BYTE, force_2d) as seismic:
             result = engine.scan_source(seismic, pick_files, values, active.path, active.sha256, detectors,
                                         progress=progress, jobs=default_jobs() if jobs is None else jobs)
-        return Report(result, active)
+        return Report(result, active, file_options={"iline_byte": iline_byte or DEFAULT_INLINE_BYTE,
+                                                    "xline_byte": xline_byte or DEFAULT_XLINE_BYTE,
+                                                    "force_2d": force_2d})
     result = engine.scan_source(source, pick_files, values, active.path, active.sha256, detectors, progress=progress,
                                 jobs=1 if jobs is None else jobs)
     return Report(result, active, source)

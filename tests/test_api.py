@@ -147,6 +147,9 @@ def test_cli_and_api_write_the_same_json_for_a_modelled_volume(volume, tmp_path)
     assert document["section"]["geometry"] == "3d"
     skips = [f for f in report.findings if f.id == "pick.cycle-skip"]
     assert skips and skips[0].inlines == (52, 53) and 300 <= skips[0].xlines[0] <= skips[0].xlines[1] <= 339
+    pytest.importorskip("matplotlib", reason="matplotlib is the figure extra")
+    axes = report.figure().axes[0]  # the file is read again, as the scan read it
+    assert "crossline" in axes.get_xlabel() and axes.get_xlim() == (299.5, 339.5)
 
 
 # --- sections in memory go through the same engine ------------------------------------------
@@ -374,6 +377,9 @@ def test_figure_is_a_matplotlib_figure_of_an_array(line):
     report = pitfalls.scan(line["data"], picks=_columns(line["rows"]), dt_ms=DT_MS, only="pick_consistency")
     figure = report.figure()
     assert isinstance(figure, Figure)
+    assert report.figure_png(colours="viridis").startswith(b"\x89PNG")
+    with pytest.raises(pitfalls.PitfallsInputError, match="'no-such-map' is not a matplotlib colour map"):
+        report.figure(colours="no-such-map")
     axes = figure.axes[0]
     assert axes.get_xlim() == (0.5, 60.5)
     assert {text.get_text().strip().split(" ")[0] for text in axes.texts} >= {"#1"}
