@@ -239,13 +239,13 @@ def _describe(args: argparse.Namespace, stdout: Console) -> int:
     if args.force_2d and (args.iline_byte or args.xline_byte):
         raise PitfallsInputError("command line", "", "--2d cannot be combined with --iline-byte/--xline-byte",
                                  "use --2d for a line, or the byte options for a 3-D volume")
-    rules, _, _ = _load_rules(args.rules)
+    rules, rules_path, rules_sha = _load_rules(args.rules)
     if args.output and os.path.abspath(args.output) in {os.path.abspath(p) for p in [args.section, *args.picks]}:
         raise PitfallsInputError(args.output, "", "is one of the input files", "write the output somewhere else; inputs are never changed")
     description = describe_file(args.section, args.picks, rules, args.iline_byte or 189, args.xline_byte or 193,
                                 args.force_2d)
     if args.format == "json":
-        text = json.dumps(report.description_dict(description), indent=2) + "\n"
+        text = json.dumps(report.description_dict(description, rules_path, rules_sha), indent=2) + "\n"
     elif args.format == "markdown":
         text = report.render_markdown(description)
     else:

@@ -169,14 +169,16 @@ def make_figure(result: ScanResult, rules: Mapping[str, Any], source: Any = None
         key = (tuple(span), tuple(round(t) for t in finding.twt_ms))
         boxes.setdefault(key, []).append(finding)
     pad_ms = 2 * section.dt_ms
+    labels = []  # (text, span, window), worst-ranked first as drawn
     for (span, window_ms), members in reversed(list(boxes.items())):  # best-ranked drawn last, on top
         colour = SEVERITY_COLOUR[members[0].severity]
         axes.add_patch(Rectangle((span[0] - 0.5, window_ms[0] - pad_ms), span[1] - span[0] + 1,
                                  window_ms[1] - window_ms[0] + 2 * pad_ms,
                                  fill=False, edgecolor=colour, linewidth=1.8))
         label = ", ".join(f"#{f.rank} {f.id}" for f in members)
-        axes.text(span[0], window_ms[0] - pad_ms, f" {label}", color="white", fontsize=8,
-                  va="bottom", ha="left", bbox={"facecolor": colour, "edgecolor": "none", "pad": 1.5, "alpha": 0.9})
+        text = axes.text(span[0], window_ms[0] - pad_ms, f" {label}", color="white", fontsize=8, va="bottom",
+                         ha="left", bbox={"facecolor": colour, "edgecolor": "none", "pad": 1.5, "alpha": 0.9})
+        labels.append((text, span, window_ms))
         shown_times.append(window_ms[0] - pad_ms - 12.0 * section.dt_ms)  # room for the label
 
     top_ms = crop_top_ms(seafloor.twt_ms, shown_times, section.t0_ms, end_ms, section.dt_ms)
@@ -192,4 +194,23 @@ def make_figure(result: ScanResult, rules: Mapping[str, Any], source: Any = None
                       label=f"{severity} finding") for severity in ("high", "medium", "low")]
     axes.legend(handles=handles, loc="lower left", fontsize=7, framealpha=0.85)
     figure.tight_layout()
+    _separate_labels(figure, [(text, span[0], window_ms[1] + pad_ms) for text, span, window_ms in reversed(labels)])
     return figure
+
+
+def _separate_labels(figure, labels) -> None:
+    """Move a box label below its box when it would cover a better-ranked box's label.
+
+    ``labels`` are ``(text, x, y_below)`` best-ranked first; the figure gets an Agg canvas of its
+    own to measure the text (no pyplot, no backend switch).
+    """
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    renderer = FigureCanvasAgg(figure).get_renderer()
+    placed = []
+    for text, x, y_below in labels:
+        extent = text.get_window_extent(renderer).expanded(1.0, 1.1)
+        if any(extent.overlaps(other) for other in placed):
+            text.set_position((x, y_below))
+            text.set_verticalalignment("top")
+            extent = text.get_window_extent(renderer).expanded(1.0, 1.1)
+        placed.append(extent)

@@ -29,20 +29,25 @@ SCOPE = (
 def velocity_sentence(velocity: Any) -> str:
     """Which velocity function the depths in the report came from, in words."""
     if velocity is None:
-        return "Depths come from the rules' velocity function."
+        return "Depths come from the velocity function stated for each section; a different velocity moves every depth."
     return (f"Depths come from the stated velocity function: water at {velocity.water_velocity_m_s:g} m/s down "
             f"to the seafloor, then {velocity.seafloor_velocity_m_s:g} m/s increasing by "
             f"{velocity.gradient_per_s:g} m/s per metre below the seafloor, at most "
             f"{velocity.max_velocity_m_s:g} m/s; a different velocity moves every depth.")
 
 
-def caution_text(result: ScanResult) -> str:
-    """The caution every report ends with: what the tool is, its scope, and, when nothing was found,
-    that this is not a clearance."""
-    parts = [CAUTION, SCOPE, velocity_sentence(getattr(result, "velocity", None))]
-    if not result.findings:
+def general_caution(found_anything: bool, velocity: Any = None) -> str:
+    """The caution, the scope and the velocity function, and, when nothing was found, that this is not
+    a clearance."""
+    parts = [CAUTION, SCOPE, velocity_sentence(velocity)]
+    if not found_anything:
         parts.append(NO_FINDINGS)
     return " ".join(parts)
+
+
+def caution_text(result: ScanResult) -> str:
+    """The caution every scan report ends with (see :func:`general_caution`)."""
+    return general_caution(bool(result.findings), getattr(result, "velocity", None))
 
 
 def location(finding: Finding) -> str:

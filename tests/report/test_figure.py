@@ -111,3 +111,14 @@ def test_figure_colours_option_takes_a_colour_map_name(tmp_path):
     without_figure = [part for part in command if part not in ("--figure", str(figure_path))]
     refused = subprocess.run(without_figure, capture_output=True, text=True, timeout=300)
     assert refused.returncode == 2 and "--figure" in refused.stderr
+
+
+def test_box_labels_do_not_cover_one_another(demo_result):
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    result, rules = demo_result
+    figure = make_figure(result, rules)
+    renderer = FigureCanvasAgg(figure).get_renderer()
+    labels = [text.get_window_extent(renderer) for text in figure.axes[0].texts if text.get_text().startswith(" #")]
+    assert len(labels) >= 5
+    for first, second in itertools.combinations(labels, 2):
+        assert not first.overlaps(second)
