@@ -158,6 +158,14 @@ def test_gate_and_markdown(grid, tmp_path):
     assert "## Sections" in text and "## Ties" in text and "pick.mis-tie" in text and "## Caution" in text
 
 
+def test_terminal_report_on_stdout(grid):
+    result = pitfalls("project", grid.project, "--jobs", "1")
+    assert result.returncode == 1, result.stderr  # high mis-ties reach the default gate
+    assert "Traceback" not in result.stderr and result.stderr == ""
+    for words in ("pitfalls project", "Sections", "Ties", "Findings across the project", "pick.mis-tie", "Caution"):
+        assert words in result.stdout, words
+
+
 def test_a_section_that_fails_to_read_is_reported_and_fails_the_gate(grid, tmp_path):
     folder = os.path.dirname(grid.project)
     (tmp_path / "broken.sgy").write_text("not a seismic file\n" * 300)

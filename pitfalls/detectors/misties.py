@@ -224,7 +224,8 @@ def _finding(name: str, a: TieSide, b: TieSide, x_m: float, y_m: float, times_a:
     elif loops:
         explanation = "loop"
         word = "loop" if abs(loops) == 1 else "loops"
-        detail = f"on {b.section} it lies {abs(loops)} {word} {'below' if loops > 0 else 'above'} the same event"
+        lower = b.section if loops > 0 else a.section
+        detail = f"the two picks lie {abs(loops)} {word} apart on the same event, the one on {lower} lower"
     else:
         explanation = "unexplained"
         detail = "the times do not point to a multiple or another loop"
@@ -297,6 +298,8 @@ def place_mis_ties(mis_ties: Sequence[MisTie], ties: Sequence[TieMeasurement]) -
         section = item.section_a if side == "a" else item.section_b
         note = (f"; {item.section_a} mis-ties {name} at {counts['a'][0]} of its {counts['a'][1]} ties, "
                 f"{item.section_b} at {counts['b'][0]} of {counts['b'][1]}")
+        if item.fixed_on or share["a"] != share["b"]:
+            note += f": re-check {section} first"
         evidence = {**item.finding.evidence, "misties_a": counts["a"][0], "ties_a": counts["a"][1],
                     "misties_b": counts["b"][0], "ties_b": counts["b"][1], "placed_on": section}
         location = item.location_a if side == "a" else item.location_b
