@@ -152,6 +152,28 @@ def test_cli_and_api_write_the_same_json_for_a_modelled_volume(volume, tmp_path)
     assert "crossline" in axes.get_xlabel() and axes.get_xlim() == (299.5, 339.5)
 
 
+def test_cli_and_api_agree_on_column_files_horizon_names_velocity_and_rules(line, tmp_path):
+    """Every scan option of the command line reaches the same scan through the API."""
+    columns = tmp_path / "sand_top.txt"
+    columns.write_text("# exported picks, no header\n" + "".join(
+        f"{row['trace']} {row['twt_ms']:.2f}\n" for row in line["rows"] if row["horizon"] == "Sand top"))
+    velocity = tmp_path / "rock.csv"
+    velocity.write_text("twt_below_seafloor_ms,interval_velocity_m_s\n0,1900\n")
+    rules = tmp_path / "mine.yaml"
+    rules.write_text("ranking:\n  min_confidence: 0.2\n")
+    cli = run_cli("scan", line["segy"], "--picks", columns, "--columns", "trace,twt_ms", "--horizon", "Sand top",
+                  "--velocity", velocity, "--rules", rules, "--only", "pick_consistency,contacts", "--jobs", "1",
+                  "--format", "json", "--gate", "off")
+    assert cli.returncode == 0, cli.stderr
+    report = pitfalls.scan(line["segy"], picks=str(columns), columns=["trace", "twt_ms"], horizon="Sand top",
+                           velocity=str(velocity), rules=str(rules), only=["pick_consistency", "contacts"], jobs=1)
+    assert without_timings(report.to_json()) == without_timings(cli.stdout)
+    document = json.loads(cli.stdout)
+    assert [p["horizon"] for p in document["picks"]] == ["Sand top"] and document["rules"]["path"] == str(rules)
+    assert document["velocity"]["source"] == str(velocity)
+    assert any(f.id == "pick.cycle-skip" for f in report.findings)
+
+
 # --- sections in memory go through the same engine ------------------------------------------
 def _same_findings(memory, from_file):
     assert memory.to_records() == from_file.to_records()
