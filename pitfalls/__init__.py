@@ -208,17 +208,24 @@ class Report:
         The rules the scan used.
     """
 
-    def __init__(self, result: "ScanResult", rules: Rules, source: Any = None) -> None:
+    def __init__(self, result: "ScanResult", rules: Rules, source: Any = None,
+                 file_options: Mapping[str, Any] | None = None) -> None:
         from types import MappingProxyType
         from dataclasses import replace
         self._result = result
         self._source = source
+        self._file_options = dict(file_options or {})
         self.rules = rules
         self.findings: tuple[Finding, ...] = tuple(
             replace(f, evidence=MappingProxyType(dict(f.evidence))) for f in result.findings)
         self.section: SectionInfo = result.section
         self.picks: tuple[PickSummary, ...] = result.picks
         self.detectors: tuple[DetectorRun, ...] = result.detectors
+
+    @property
+    def scan_result(self) -> "ScanResult":
+        """The engine's complete result, as the report writers in ``pitfalls.report`` read it."""
+        return self._result
 
     @property
     def seafloor(self) -> "SeafloorSummary":
@@ -289,6 +296,11 @@ class Report:
         Console(file=buffer, width=width, color_system=None, force_terminal=False).print(render(self._result))
         return buffer.getvalue()
 
+    def __rich__(self) -> Any:
+        """The terminal report as rich renderables, so ``rich.print(report)`` shows it in colour."""
+        from pitfalls.report.terminal import render
+        return render(self._result)
+
     def to_records(self) -> list[dict[str, Any]]:
         """One plain dict per finding, in rank order, with the JSON report's keys.
 
@@ -298,8 +310,14 @@ class Report:
         from pitfalls.report.json_report import finding_dict
         return [finding_dict(f) for f in self._result.findings]
 
-    def figure(self) -> Any:
+    def figure(self, colours: str | None = None) -> Any:
         """The section with the picks and the best-ranked findings drawn over it.
+
+        Parameters
+        ----------
+        colours : str, optional
+            A matplotlib colour map name for the amplitudes (default: grey, the seafloor
+            reflection's sign dark), as ``--figure-colours``.
 
         Returns
         -------
@@ -311,8 +329,22 @@ class Report:
         PitfallsInputError
             When matplotlib is not installed (``pip install "pitfalls[figure]"``).
         """
-        from pitfalls.report.figure import make_figure
-        return make_figure(self._result, self.rules, self._source)
+        from pitfalls.report.figure import DEFAULT_COLOUR_MAP, make_figure, require_matplotlib
+        require_matplotlib()
+        colour_map = DEFAULT_COLOUR_MAP if colours is None else colours
+        if self._source is not None:
+            return make_figure(self._result, self.rules, self._source, colour_map)
+        from pitfalls.io.segy import SeismicFile  # the file again, read as the scan read it
+        with SeismicFile(self.section.path, self.rules["section"]["fallback_trace_spacing_m"],
+                         **self._file_options) as seismic:
+            return make_figure(self._result, self.rules, seismic, colour_map)
+
+    def figure_png(self, colours: str | None = None) -> bytes:
+        """:meth:`figure` as PNG bytes, as ``--figure FILE.png`` writes it."""
+        import io
+        buffer = io.BytesIO()
+        self.figure(colours).savefig(buffer, format="png")
+        return buffer.getvalue()
 
     def _repr_html_(self) -> str:
         import html
@@ -379,6 +411,20 @@ def _pick_inputs(picks: Any) -> list:
     return inputs
 
 
+def _read_picks(inputs: list, columns: str | Sequence[str] | None, horizon: str | None) -> list:
+    """Pick files read (with the column and horizon options) and tables already read, in the order given."""
+    from pitfalls import engine
+    from pitfalls.io.picks import PickFile, parse_columns
+    if columns is not None:
+        columns = parse_columns(columns if isinstance(columns, str) else ",".join(map(str, columns)))
+    paths = [item for item in inputs if not isinstance(item, PickFile)]
+    if horizon is not None and not paths:
+        raise PitfallsInputError("horizon", "", "names the horizon of pick files without a horizon column, "
+                                 "but no pick file is given", "give the horizon as a column of the table")
+    files = iter(engine.read_pick_files(paths, columns, horizon))
+    return [item if isinstance(item, PickFile) else next(files) for item in inputs]
+
+
 def _array_source(section: Any, rules: Rules, geometry: dict[str, Any]) -> Any:
     from pitfalls.io.array import ArraySource, dataarray_geometry, is_dataarray
     fallback_m = rules["section"]["fallback_trace_spacing_m"]
@@ -402,7 +448,8 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
          inline_numbers: Sequence[int] | None = None, xline_numbers: Sequence[int] | None = None,
          coordinates: Any = None, trace_spacing_m: float | None = None, name: str | None = None,
          iline_byte: int | None = None, xline_byte: int | None = None, force_2d: bool = False,
-         progress: Callable[[int, int], None] | None = None) -> Report:
+         columns: str | Sequence[str] | None = None, horizon: str | None = None, velocity: Any = None,
+         progress: Callable[..., None] | None = None) -> Report:
     """Scan a section and its picks with every selected detector; return the ranked report.
 
     Parameters
@@ -448,6 +495,15 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
         (default 189 and 193).
     force_2d : bool
         For a SEG-Y file: read it as a line in trace order.
+    columns : str or sequence of str, optional
+        For pick files without a header row: their columns in order (``"horizon,cdp,twt_ms"``
+        or a list; ``-`` skips one), as ``--columns``.
+    horizon : str, optional
+        The horizon name for pick files without a horizon column, as ``--horizon``.
+    velocity : str, path-like or VelocityModel, optional
+        The velocity function for every depth in the report: a velocity file (YAML, or a
+        two-column table), as ``--velocity``, or a ``pitfalls.physics.velocity.VelocityModel``;
+        the rules' function when None.
     progress : callable, optional
         Called after every block as ``progress(panels_done, panels_total, samples_done)``.
 
@@ -470,7 +526,6 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
     >>> report = pitfalls.scan(data, picks=picks, dt_ms=4.0)  # doctest: +SKIP
     """
     from pitfalls import engine
-    from pitfalls.io.picks import PickFile, read_pick_file
     active = load_rules(rules)
     detectors = engine.select_detectors(_only(only))
     if jobs is not None and (isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1):
@@ -498,16 +553,29 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
         raise PitfallsInputError("section", "", f"is a {type(section).__name__}",
                                  "give a SEG-Y file path, a numpy array with dt_ms, or an xarray DataArray")
     values = active.to_dict()
-    pick_files = [item if isinstance(item, PickFile) else read_pick_file(item) for item in pick_inputs]
+    pick_files = _read_picks(pick_inputs, columns, horizon)
+    if velocity is not None and not isinstance(velocity, (str, os.PathLike)):
+        from pitfalls.physics.velocity import VelocityModel
+        if not isinstance(velocity, VelocityModel):
+            raise PitfallsInputError("velocity", "", f"is a {type(velocity).__name__}",
+                                     "give a velocity file path or a VelocityModel, or None for the rules' function")
+    if isinstance(velocity, (str, os.PathLike)):
+        from pitfalls.io.velocity import read_velocity_file
+        line_name = (os.path.splitext(os.path.basename(source))[0] if isinstance(source, str)
+                     else (name or getattr(section, "name", None)))
+        velocity = read_velocity_file(os.fspath(velocity), values, None if line_name is None else str(line_name))
     if isinstance(source, str):
         from pitfalls.io.segy import DEFAULT_INLINE_BYTE, DEFAULT_XLINE_BYTE, SeismicFile
         with SeismicFile(source, values["section"]["fallback_trace_spacing_m"], iline_byte or DEFAULT_INLINE_BYTE,
                          xline_byte or DEFAULT_XLINE_BYTE, force_2d) as seismic:
             result = engine.scan_source(seismic, pick_files, values, active.path, active.sha256, detectors,
-                                        progress=progress, jobs=default_jobs() if jobs is None else jobs)
-        return Report(result, active)
+                                        progress=progress, velocity=velocity,
+                                        jobs=default_jobs() if jobs is None else jobs)
+        return Report(result, active, file_options={"iline_byte": iline_byte or DEFAULT_INLINE_BYTE,
+                                                    "xline_byte": xline_byte or DEFAULT_XLINE_BYTE,
+                                                    "force_2d": force_2d})
     result = engine.scan_source(source, pick_files, values, active.path, active.sha256, detectors, progress=progress,
-                                jobs=1 if jobs is None else jobs)
+                                velocity=velocity, jobs=1 if jobs is None else jobs)
     return Report(result, active, source)
 
 

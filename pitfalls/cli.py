@@ -129,34 +129,25 @@ def _load_rules(path: str | None):
     return load_rules(path, _registry().rule_keys())
 
 
-def _render_text(result, fmt: str, width: int | None = None, detail: str = "top") -> str:
+def _report_text(report, fmt: str, width: int = 120, detail: str = "top") -> str:
+    """A scan report as text in one of the ``--format`` forms: the report object's own views (the terminal
+    form with the ``--detail`` asked for)."""
     if fmt == "json":
-        from pitfalls.report.json_report import report_dict
-        return json.dumps(report_dict(result), indent=2) + "\n"
+        return report.to_json()
     if fmt == "markdown":
-        from pitfalls.report.markdown import render
-        return render(result)
+        return report.to_markdown()
     from pitfalls.report.terminal import render
     from rich.console import Console
     buffer = io.StringIO()
-    Console(file=buffer, width=width or 120, color_system=None, force_terminal=False).print(render(result, detail))
+    Console(file=buffer, width=width, color_system=None, force_terminal=False).print(render(report.scan_result, detail))
     return buffer.getvalue()
 
 
 def _scan(args: argparse.Namespace, stdout: Console) -> int:
-    from pitfalls.engine import scan
+    import pitfalls
     if args.force_2d and (args.iline_byte or args.xline_byte):
         raise PitfallsInputError("command line", "", "--2d cannot be combined with --iline-byte/--xline-byte",
                                  "use --2d for a line, or the byte options for a 3-D volume")
-    only = [name.strip() for name in args.only.split(",") if name.strip()] if args.only else None
-    from pitfalls.io.picks import parse_columns
-    pick_options = {"pick_columns": parse_columns(args.columns) if args.columns is not None else None,
-                    "pick_horizon": args.horizon}
-    rules, rules_path, rules_sha = _load_rules(args.rules)
-    if args.velocity is not None:
-        from pitfalls.io.velocity import read_velocity_file
-        line_name = os.path.splitext(os.path.basename(args.section))[0]
-        pick_options["velocity"] = read_velocity_file(args.velocity, rules, line_name)
     accepted = ()
     if args.accepted:
         from pitfalls.io.accepted import read_accepted
@@ -174,18 +165,20 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.figure_colours:
         from pitfalls.report.figure import check_colour_map
         check_colour_map(args.figure_colours)
-    jobs = _jobs(args.jobs)
-    options = dict(only=only, iline_byte=args.iline_byte or 189, xline_byte=args.xline_byte or 193,
-                   force_2d=args.force_2d, jobs=jobs, **pick_options)
+    options = dict(picks=args.picks, rules=args.rules, only=args.only, jobs=_jobs(args.jobs),
+                   iline_byte=args.iline_byte, xline_byte=args.xline_byte, force_2d=args.force_2d,
+                   columns=args.columns, horizon=args.horizon, velocity=args.velocity)
     if sys.stderr.isatty():
         with _progress_bar() as progress:
-            result = scan(args.section, args.picks, rules, rules_path, rules_sha, progress=progress, **options)
+            report = pitfalls.scan(args.section, progress=progress, **options)
     else:
-        result = scan(args.section, args.picks, rules, rules_path, rules_sha, **options)
+        report = pitfalls.scan(args.section, **options)
     if args.accepted:
         from pitfalls.report.accepted import apply_accepted
-        result = apply_accepted(result, accepted)
-    _emit(result, args.format, args.output, args.quiet, stdout, args.detail)
+        report = type(report)(apply_accepted(report.scan_result, accepted), report.rules,
+                              getattr(report, "_source", None), getattr(report, "_file_options", None))
+    result = report.scan_result
+    _emit(report, args.format, args.output, args.quiet, stdout, args.detail)
     if args.write_accepted:
         from pitfalls.report.accepted import accepted_file_text
         write_atomically(args.write_accepted, accepted_file_text(result))
@@ -195,8 +188,7 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
         from pitfalls.report.annotated import render as render_annotated
         write_atomically(args.annotated_picks, render_annotated(result))
     if args.figure:
-        from pitfalls.report.figure import DEFAULT_COLOUR_MAP, draw
-        write_atomically(args.figure, draw(result, rules, colour_map=args.figure_colours or DEFAULT_COLOUR_MAP))
+        write_atomically(args.figure, report.figure_png(args.figure_colours))
     if args.map:
         if result.map_view is None:
             raise PitfallsInputError("--map", "", f"{args.section} is a 2-D line; a map needs a 3-D volume",
@@ -211,18 +203,14 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
                                      "write the coordinates into the SEG-Y headers, or leave out --geojson")
         collection = feature_collection(result.findings, result.coordinates, args.section)
         write_atomically(args.geojson, json.dumps(collection, indent=1) + "\n")
-    if result.failed or result.reaches(args.gate):
-        return EXIT_FINDINGS
-    return EXIT_OK
+    return EXIT_OK if report.passes(args.gate) else EXIT_FINDINGS
 
 
 def _jobs(requested: int | None) -> int:
     """Worker processes: as asked, else one per core the process may use."""
     if requested is None:
-        try:
-            return max(1, len(os.sched_getaffinity(0)))
-        except AttributeError:  # platforms without CPU affinity
-            return max(1, os.cpu_count() or 1)
+        from pitfalls import default_jobs
+        return default_jobs()
     if requested < 1:
         raise PitfallsInputError("--jobs", "", f"is {requested}", "give a whole number of worker processes, 1 or more")
     return requested
@@ -250,17 +238,17 @@ class _progress_bar:
         self._bar.__exit__(*exc)
 
 
-def _emit(result, fmt: str, output: str | None, quiet: bool, stdout: Console, detail: str = "top") -> None:
+def _emit(report, fmt: str, output: str | None, quiet: bool, stdout: Console, detail: str = "top") -> None:
     if output:
-        write_atomically(output, _render_text(result, fmt, detail=detail))
+        write_atomically(output, _report_text(report, fmt, detail=detail))
         return
     if quiet:
         return
     if fmt == "terminal":
         from pitfalls.report.terminal import render
-        stdout.print(render(result, detail))
+        stdout.print(render(report.scan_result, detail))
     else:
-        sys.stdout.write(_render_text(result, fmt))
+        sys.stdout.write(_report_text(report, fmt))
         sys.stdout.flush()
 
 
@@ -332,37 +320,34 @@ def _project(args: argparse.Namespace, stdout: Console) -> int:
 
 
 def _demo(args: argparse.Namespace, stdout: Console) -> int:
-    from pitfalls.engine import scan
+    import pitfalls
     from pitfalls.modelling.demo import write_demo
-    from pitfalls.report.terminal import render
     os.makedirs(args.out, exist_ok=True)
     written = write_demo(args.out)
-    rules, rules_path, rules_sha = _load_rules(None)
-    result = scan(written["segy"], [written["picks"]], rules, rules_path, rules_sha)
-    stdout.print(render(result))
+    report = pitfalls.scan(written["segy"], picks=[written["picks"]])
+    stdout.print(report)
     figure_note = ""
     try:
-        from pitfalls.report.figure import draw, require_matplotlib
-        require_matplotlib()
         figure_path = os.path.join(args.out, "demo_figure.png")
-        write_atomically(figure_path, draw(result, rules))
+        write_atomically(figure_path, report.figure_png())
         figure_note = f", figure {figure_path}"
     except PitfallsInputError as err:
         figure_note = f" (no figure: {err.problem})"
     stdout.print(f"Demo files in {args.out}: section {written['segy']}, picks {written['picks']}, "
                  f"truth {written['truth']}{figure_note}. Scan them yourself with:\n"
                  f"  pitfalls scan {written['segy']} --picks {written['picks']}")
-    return EXIT_FINDINGS if result.failed else EXIT_OK
+    return EXIT_FINDINGS if report.failed else EXIT_OK
 
 
 def _rules(args: argparse.Namespace) -> int:
-    from pitfalls.io.rules import render_rules
-    rules, rules_path, _ = _load_rules(args.rules)
+    from pitfalls import load_rules
+    rules = load_rules(args.rules)
+    rules_path = rules.path
     if args.rules:
         sys.stdout.write(f"# active rules: {rules_path} merged over the built-in defaults\n")
     else:
         sys.stdout.write(f"# active rules: {rules_path}\n")
-    sys.stdout.write(render_rules(rules))
+    sys.stdout.write(rules.to_yaml())
     return EXIT_OK
 
 
@@ -372,12 +357,11 @@ def _explain(args: argparse.Namespace, stdout: Console) -> int:
         for finding_id, (detector, (meaning, _, _)) in kinds.items():
             stdout.print(f"{finding_id:34s} {meaning}", highlight=False)
         return EXIT_OK
-    if args.finding_id not in kinds:
-        raise PitfallsInputError("explain", "", f"unknown finding id {args.finding_id!r}",
-                                 "run `pitfalls explain --list` for the ids")
-    detector, (meaning, why, check) = kinds[args.finding_id]
-    stdout.print(f"[bold]{args.finding_id}[/bold] (detector {detector})\n\n"
-                 f"What it means: {meaning}\n\nWhy it matters: {why}\n\nWhat to check: {check}", highlight=False)
+    from rich.text import Text
+
+    from pitfalls import explain
+    text = explain(args.finding_id)
+    stdout.print(Text.assemble((args.finding_id, "bold"), text[len(args.finding_id):]), highlight=False)
     return EXIT_OK
 
 

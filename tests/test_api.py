@@ -147,6 +147,31 @@ def test_cli_and_api_write_the_same_json_for_a_modelled_volume(volume, tmp_path)
     assert document["section"]["geometry"] == "3d"
     skips = [f for f in report.findings if f.id == "pick.cycle-skip"]
     assert skips and skips[0].inlines == (52, 53) and 300 <= skips[0].xlines[0] <= skips[0].xlines[1] <= 339
+    pytest.importorskip("matplotlib", reason="matplotlib is the figure extra")
+    axes = report.figure().axes[0]  # the file is read again, as the scan read it
+    assert "crossline" in axes.get_xlabel() and axes.get_xlim() == (299.5, 339.5)
+
+
+def test_cli_and_api_agree_on_column_files_horizon_names_velocity_and_rules(line, tmp_path):
+    """Every scan option of the command line reaches the same scan through the API."""
+    columns = tmp_path / "sand_top.txt"
+    columns.write_text("# exported picks, no header\n" + "".join(
+        f"{row['trace']} {row['twt_ms']:.2f}\n" for row in line["rows"] if row["horizon"] == "Sand top"))
+    velocity = tmp_path / "rock.csv"
+    velocity.write_text("twt_below_seafloor_ms,interval_velocity_m_s\n0,1900\n")
+    rules = tmp_path / "mine.yaml"
+    rules.write_text("ranking:\n  min_confidence: 0.2\n")
+    cli = run_cli("scan", line["segy"], "--picks", columns, "--columns", "trace,twt_ms", "--horizon", "Sand top",
+                  "--velocity", velocity, "--rules", rules, "--only", "pick_consistency,contacts", "--jobs", "1",
+                  "--format", "json", "--gate", "off")
+    assert cli.returncode == 0, cli.stderr
+    report = pitfalls.scan(line["segy"], picks=str(columns), columns=["trace", "twt_ms"], horizon="Sand top",
+                           velocity=str(velocity), rules=str(rules), only=["pick_consistency", "contacts"], jobs=1)
+    assert without_timings(report.to_json()) == without_timings(cli.stdout)
+    document = json.loads(cli.stdout)
+    assert [p["horizon"] for p in document["picks"]] == ["Sand top"] and document["rules"]["path"] == str(rules)
+    assert document["velocity"]["source"] == str(velocity)
+    assert any(f.id == "pick.cycle-skip" for f in report.findings)
 
 
 # --- sections in memory go through the same engine ------------------------------------------
@@ -374,6 +399,9 @@ def test_figure_is_a_matplotlib_figure_of_an_array(line):
     report = pitfalls.scan(line["data"], picks=_columns(line["rows"]), dt_ms=DT_MS, only="pick_consistency")
     figure = report.figure()
     assert isinstance(figure, Figure)
+    assert report.figure_png(colours="viridis").startswith(b"\x89PNG")
+    with pytest.raises(pitfalls.PitfallsInputError, match="'no-such-map' is not a matplotlib colour map"):
+        report.figure(colours="no-such-map")
     axes = figure.axes[0]
     assert axes.get_xlim() == (0.5, 60.5)
     assert {text.get_text().strip().split(" ")[0] for text in axes.texts} >= {"#1"}
@@ -429,3 +457,15 @@ def test_array_volume_in_worker_processes_matches_one_process(volume):
     runs = [engine.scan_source(source, picks, rules.to_dict(), rules.path, rules.sha256, engine.select_detectors(None),
                                jobs=jobs, inlines_per_block=1) for jobs in (1, 2)]
     assert [f.rank for f in runs[0].findings] and runs[0].findings == runs[1].findings
+
+
+def test_text_views_of_the_report(demo_report):
+    import io
+
+    from rich.console import Console
+    text = demo_report.to_text(width=100)
+    buffer = io.StringIO()
+    Console(file=buffer, width=100, color_system=None, force_terminal=False).print(demo_report)
+    assert buffer.getvalue() == text
+    assert demo_report.findings[0].title.split()[0] in text and "Caution" in text
+    assert repr(demo_report).startswith("<pitfalls.Report ") and f"{len(demo_report.findings)} findings" in repr(demo_report)

@@ -64,11 +64,12 @@ from __future__ import annotations
 import csv
 import difflib
 import hashlib
-import io
+import itertools
 import math
 import os
+import re
 from dataclasses import dataclass, field
-from typing import Iterator, Sequence
+from typing import Iterable, Iterator, Sequence
 
 import numpy as np
 
@@ -94,7 +95,7 @@ _REAL_COLUMNS = ("x", "y")
 _NUMERIC_COLUMNS = _WHOLE_COLUMNS + _REAL_COLUMNS + ("twt_ms", "twt_s", "depth_m")
 _SHOWN_CHARACTERS = 40
 _SHOWN_ITEMS = 8
-_CHUNK_RECORDS = 65536
+_CHUNK_RECORDS = 8192
 _HEADER_SEARCH_LINES = 200
 """Without ``--columns``, the header must be among the first 200 lines that are not blank or comments."""
 
@@ -174,9 +175,7 @@ class PickFile:
         if hashlib.sha256(text.encode("utf-8")).hexdigest() != self.sha256:
             raise PitfallsInputError(self.path, "", "the pick file changed while the scan ran",
                                      fix="run the scan again on the saved file")
-        lines = text.splitlines(keepends=True)
-        body = "".join(lines[self.data_line - 1:])
-        for row, cells in _iter_records(self.path, body, self.delimiter, self.data_line):
+        for row, cells in _iter_records(self.path, text, self.delimiter, self.data_line):
             if not _blank(cells) and not (self.named and _comment(cells)):
                 yield row - self.row_offset, cells
 
@@ -263,7 +262,7 @@ def parse_pick_text(path: str, text: str, columns: Sequence[str] | None = None, 
         raise PitfallsInputError(path, "", "the file is empty",
                                  fix="write a header row (horizon,trace,twt_ms) and one row per pick")
     sha256 = hashlib.sha256(text.encode("utf-8")).hexdigest()
-    lines = text.splitlines(keepends=True)
+    lines = (line for line, _ in _lines(text))
     if columns is None:
         start, delimiter, header = _find_header(path, lines)
         names = _header_roles(path, header)
@@ -279,8 +278,7 @@ def parse_pick_text(path: str, text: str, columns: Sequence[str] | None = None, 
         data_line = start + 1
         header_row = None
         written = tuple(name if name != "-" else f"column_{number}" for number, name in enumerate(columns, start=1))
-    n_skipped = sum(1 for line in lines[:start] if line.strip())
-    body = "".join(lines[data_line - 1:])
+    n_skipped = sum(1 for index, (line, _) in zip(range(start), _lines(text)) if line.strip())
     key = _key_of(set(names))
     assert key is not None  # _header_roles and parse_columns refuse files without one
     key_names = _key_columns(key)
@@ -289,7 +287,7 @@ def parse_pick_text(path: str, text: str, columns: Sequence[str] | None = None, 
 
     default_name = horizon if horizon else os.path.splitext(os.path.basename(path))[0] or "picks"
     parts = _Columns(key_names, "horizon" in names, "kind" in names, default_name)
-    for chunk in _chunks(_iter_records(path, body, delimiter, data_line)):
+    for chunk in _chunks(_iter_records(path, text, delimiter, data_line)):
         _parse_chunk(path, chunk, names, width, columns is not None, delimiter, key_names, time_name, parts)
     if not parts.rows:
         if header_row is not None:
@@ -365,6 +363,18 @@ def _read_text(path: str) -> str:
     return text
 
 
+_LINE = re.compile("[^\n\r\x0b\x0c\x1c\x1d\x1e\x85\u2028\u2029]*"
+                   "(?:\r\n|[\n\r\x0b\x0c\x1c\x1d\x1e\x85\u2028\u2029])?")
+
+
+def _lines(text: str) -> Iterator[tuple[str, int]]:
+    """(line with its end, offset of its start), lazily, split where ``str.splitlines`` splits."""
+    for match in _LINE.finditer(text):
+        if match.start() == match.end():
+            return
+        yield match.group(), match.start()
+
+
 def delimiter_of(line: str) -> str:
     """Semicolon, else comma, else tab, else runs of spaces (see module notes)."""
     if ";" in line:
@@ -391,15 +401,19 @@ def _skippable(line: str) -> bool:
     return not stripped or stripped.startswith("#")
 
 
-def _iter_records(path: str, body: str, delimiter: str, first_row: int) -> Iterator[tuple[int, list[str]]]:
-    """(row number, cells) for every record of ``body``; row numbers start at ``first_row``."""
+def _iter_records(path: str, text: str, delimiter: str, first_row: int) -> Iterator[tuple[int, list[str]]]:
+    """(row number, cells) for every record of ``text`` from line ``first_row`` (1-based) on.
+
+    The lines are read lazily from the text, so no second copy of a long file is made.
+    """
     row = first_row
+    lines = itertools.islice((line for line, _ in _lines(text)), first_row - 1, None)
     if delimiter == " ":
-        for line in body.splitlines():
+        for line in lines:
             yield row, line.split()
             row += 1
         return
-    reader = csv.reader(io.StringIO(body, newline=""), delimiter=delimiter)
+    reader = csv.reader(lines, delimiter=delimiter)
     try:
         for cells in reader:
             yield row, cells
@@ -421,7 +435,7 @@ def _chunks(records: Iterator[tuple[int, list[str]]]) -> Iterator[list[tuple[int
 
 
 def _blank(cells: list[str]) -> bool:
-    return all(not cell.strip() for cell in cells)
+    return not "".join(cells).strip()
 
 
 def _comment(cells: list[str]) -> bool:
@@ -453,7 +467,7 @@ def _looks_numeric(cell: str) -> bool:
     return True
 
 
-def _find_header(path: str, lines: list[str]) -> tuple[int, str, list[str]]:
+def _find_header(path: str, lines: Iterable[str]) -> tuple[int, str, list[str]]:
     """(line index, delimiter, cells) of the header: the first line naming a known column."""
     first: tuple[int, list[str]] | None = None
     looked = 0
@@ -547,7 +561,7 @@ def _fits(cells: list[str], columns: tuple[str, ...], delimiter: str) -> str:
     return ""
 
 
-def _find_first_pick(path: str, lines: list[str], columns: tuple[str, ...]) -> tuple[int, str]:
+def _find_first_pick(path: str, lines: Iterable[str], columns: tuple[str, ...]) -> tuple[int, str]:
     """(line index, delimiter) of the first line whose cells fit the ``--columns`` names."""
     first: tuple[int, str] | None = None
     for index, line in enumerate(lines):
