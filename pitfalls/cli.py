@@ -44,6 +44,13 @@ def build_parser() -> argparse.ArgumentParser:
     scan = commands.add_parser("scan", help="scan a SEG-Y section and its picks, print the ranked report")
     scan.add_argument("section", metavar="SECTION", help="post-stack SEG-Y file (2-D line or 3-D volume)")
     scan.add_argument("--picks", action="append", default=[], metavar="FILE", help="pick file (CSV); repeatable")
+    scan.add_argument("--columns", metavar="NAMES",
+                      help="the pick files' columns in order, - to skip one (a file without a header row): "
+                           "horizon, trace, cdp, shotpoint, inline, xline, x, y, twt_ms, twt_s, depth_m, kind")
+    scan.add_argument("--velocity", metavar="FILE", help="velocity function for every depth: YAML, or a two-column "
+                                                         "table of two-way time below the seafloor and velocity")
+    scan.add_argument("--horizon", metavar="NAME", help="horizon name for pick files without a horizon column "
+                                                        "(default: the file's name)")
     scan.add_argument("--rules", metavar="FILE", help=RULES_HELP)
     scan.add_argument("--format", choices=("terminal", "json", "markdown"), default="terminal")
     scan.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
@@ -136,7 +143,14 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
         raise PitfallsInputError("command line", "", "--2d cannot be combined with --iline-byte/--xline-byte",
                                  "use --2d for a line, or the byte options for a 3-D volume")
     only = [name.strip() for name in args.only.split(",") if name.strip()] if args.only else None
+    from pitfalls.io.picks import parse_columns
+    pick_options = {"pick_columns": parse_columns(args.columns) if args.columns is not None else None,
+                    "pick_horizon": args.horizon}
     rules, rules_path, rules_sha = _load_rules(args.rules)
+    if args.velocity is not None:
+        from pitfalls.io.velocity import read_velocity_file
+        line_name = os.path.splitext(os.path.basename(args.section))[0]
+        pick_options["velocity"] = read_velocity_file(args.velocity, rules, line_name)
     for target in (args.output, args.annotated_picks, args.figure, args.map, args.geojson):
         if target and os.path.abspath(target) in {os.path.abspath(p) for p in [args.section, *args.picks]}:
             raise PitfallsInputError(target, "", "is one of the input files", "write the output somewhere else; inputs are never changed")
@@ -151,7 +165,7 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
         check_colour_map(args.figure_colours)
     jobs = _jobs(args.jobs)
     options = dict(only=only, iline_byte=args.iline_byte or 189, xline_byte=args.xline_byte or 193,
-                   force_2d=args.force_2d, jobs=jobs)
+                   force_2d=args.force_2d, jobs=jobs, **pick_options)
     if sys.stderr.isatty():
         with _progress_bar() as progress:
             result = scan(args.section, args.picks, rules, rules_path, rules_sha, progress=progress, **options)

@@ -20,7 +20,7 @@ import numpy as np
 from pitfalls import detectors as registry
 from pitfalls.errors import PitfallsInputError
 from pitfalls.io.picks import PickFile, read_pick_file
-from pitfalls.io.placement import PlacedPicks, place_picks
+from pitfalls.io.placement import FileMatch, PlacedPicks, place_picks
 from pitfalls.context import build_context
 from pitfalls.physics.seafloor import find_seafloor
 from pitfalls.io.segy import DEFAULT_INLINE_BYTE, DEFAULT_XLINE_BYTE, SeismicFile
@@ -67,12 +67,16 @@ class ScanResult:
     detectors: tuple[DetectorRun, ...]
     findings: tuple[Finding, ...]
     seafloor: SeafloorSummary
+    matches: tuple[FileMatch, ...] = ()
+    """How each pick file's rows found their traces (one per pick file)."""
+    pick_notes: tuple[str, ...] = ()
+    """What reading and matching the picks did that the report should say."""
+    velocity: VelocityModel = VelocityModel()
+    """The velocity function every depth in the report comes from."""
     map_view: Any = None
     """A volume's picks as surfaces (:class:`pitfalls.maps.SurveyView`), for the map figure; None for a line."""
     coordinates: Any = None
     """Where the traces lie (:class:`pitfalls.report.geojson.SurveyCoordinates`), for GeoJSON footprints."""
-    velocity: VelocityModel | None = None
-    """The velocity function every depth in the report came from (None: not recorded)."""
 
     @property
     def failed(self) -> tuple[DetectorRun, ...]:
@@ -121,7 +125,8 @@ def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any],
          rules_sha256: str, only: Sequence[str] | None = None, iline_byte: int = DEFAULT_INLINE_BYTE,
          xline_byte: int = DEFAULT_XLINE_BYTE, force_2d: bool = False,
          progress: Callable[[int, int], None] | None = None, velocity: VelocityModel | None = None,
-         jobs: int = 1, inlines_per_block: int = DEFAULT_INLINES_PER_BLOCK) -> ScanResult:
+         jobs: int = 1, inlines_per_block: int = DEFAULT_INLINES_PER_BLOCK, pick_columns: Sequence[str] | None = None,
+         pick_horizon: str | None = None) -> ScanResult:
     """Scan one SEG-Y section with its pick files; see the module docstring.
 
     Parameters
@@ -136,6 +141,8 @@ def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any],
         for any number.
     inlines_per_block : int
         Inlines of a volume read and measured together; the report is the same for any size.
+    pick_columns, pick_horizon : optional
+        ``--columns`` (from ``io.picks.parse_columns``) and ``--horizon``, for every pick file.
 
     Raises
     ------
@@ -143,7 +150,8 @@ def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any],
         For any problem with the section, the picks or the detector selection.
     """
     selected = select_detectors(only)
-    pick_files = [read_pick_file(path) for path in pick_paths]
+    velocity = VelocityModel.from_rules(rules) if velocity is None else velocity
+    pick_files = read_pick_files(pick_paths, pick_columns, pick_horizon)
     with SeismicFile(section_path, rules["section"]["fallback_trace_spacing_m"], iline_byte, xline_byte,
                      force_2d) as source:
         return scan_source(source, pick_files, rules, rules_path, rules_sha256, selected, progress=progress,
@@ -163,7 +171,7 @@ def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any]
     velocity = VelocityModel.from_rules(rules) if velocity is None else velocity
     jobs = 1 if jobs is None else int(jobs)
     info = source.info
-    placed = place_picks(list(pick_files), info, source.layout)
+    placed = place_picks(list(pick_files), info, source.layout, getattr(source, "trace_keys", None))
     total = source.n_panels
     step = max(1, int(inlines_per_block))
     tasks = [(first, min(total, first + step)) for first in range(0, total, step)]
@@ -203,8 +211,9 @@ def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any]
     return ScanResult(
         section=info, pick_files=tuple(pick_files), picks=_summaries(placed), rules_path=rules_path,
         rules_sha256=rules_sha256, detectors=runs, findings=rank_findings(findings, info, rules["ranking"]),
-        seafloor=_seafloor_summary(outcomes), map_view=map_view,
-        coordinates=_coordinates(source.layout, map_view), velocity=velocity)
+        seafloor=_seafloor_summary(outcomes), map_view=map_view, matches=placed.matches,
+        pick_notes=pick_notes(pick_files, placed), velocity=velocity,
+        coordinates=_coordinates(source.layout, map_view))
 
 
 def _coordinates(layout, map_view):
@@ -237,6 +246,22 @@ def _map_view(layout, placed: PlacedPicks, outcomes: Sequence[PanelOutcome], fin
             if name in ("contacts", "multiples", "crosscut"):
                 first_failure[name] = (len(outcomes), f"map view: {type(err).__name__}: {' '.join(str(err).split())}")
         return list(findings), None
+
+
+def read_pick_files(paths: Sequence[str], columns: Sequence[str] | None = None,
+                    horizon: str | None = None) -> list[PickFile]:
+    """Read every pick file; ``--horizon`` must name the horizon of at least one file without a horizon column."""
+    files = [read_pick_file(path, columns, horizon) for path in paths]
+    if horizon is not None and files and all(f.horizon_column for f in files):
+        raise PitfallsInputError("--horizon", "", "every pick file names its horizons in a horizon column",
+                                 "drop --horizon, or mark the horizon column - in --columns")
+    return files
+
+
+def pick_notes(files: Sequence[PickFile], placed: PlacedPicks) -> tuple[str, ...]:
+    """The readers' notes, then how each file was matched to the traces when not by trace or inline/xline numbers."""
+    return tuple(note for f in files for note in f.notes) + tuple(
+        match.describe() for match in placed.matches if match.key not in ("trace", "inline_xline"))
 
 
 def _takes_samples(progress: Callable[..., None]) -> bool:

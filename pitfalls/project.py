@@ -15,6 +15,7 @@ result does not depend on where they ran (timings aside).
 """
 from __future__ import annotations
 
+import os
 import time
 from dataclasses import dataclass, replace
 from typing import Any, Mapping, Sequence
@@ -44,6 +45,8 @@ class SectionTask:
     rules: Mapping[str, Any]
     rules_path: str
     rules_sha256: str
+    velocity_path: str | None = None
+    """The section's velocity file (``velocity:`` in the project file), or None for the built-in function."""
 
 
 @dataclass(frozen=True)
@@ -109,8 +112,13 @@ def scan_section(task: SectionTask) -> SectionOutcome:
     iline = task.iline_byte or DEFAULT_INLINE_BYTE
     xline = task.xline_byte or DEFAULT_XLINE_BYTE
     try:
+        velocity = None
+        if task.velocity_path is not None:
+            from pitfalls.io.velocity import read_velocity_file
+            line_name = os.path.splitext(os.path.basename(task.path))[0]
+            velocity = read_velocity_file(task.velocity_path, task.rules, line_name)
         result = scan(task.path, list(task.pick_paths), task.rules, task.rules_path, task.rules_sha256,
-                      iline_byte=iline, xline_byte=xline, force_2d=task.force_2d)
+                      iline_byte=iline, xline_byte=xline, force_2d=task.force_2d, velocity=velocity)
         geometry = read_tie_geometry(task.path, task.pick_paths, task.rules["section"]["fallback_trace_spacing_m"],
                                      iline, xline, task.force_2d)
     except PitfallsInputError as err:
@@ -196,7 +204,7 @@ def run_project(project: Project, rules: Mapping[str, Any], rules_path: str, rul
     """
     started = time.perf_counter()
     tasks = [SectionTask(s.label, s.path, s.pick_paths, s.iline_byte, s.xline_byte, s.force_2d, rules, rules_path,
-                         rules_sha256) for s in project.sections]
+                         rules_sha256, s.velocity_path) for s in project.sections]
     outcomes = list(runner.map(scan_section, tasks))
     ties = find_ties(outcomes, rules)
     reach = int(rules[misties.NAME]["tie_traces"])

@@ -228,3 +228,23 @@ def test_automatic_seafloor_bounds_the_first_interval(rules):
     description = describe_section(section_of(bound(background(), base)), picks, rules)
     assert [(i["top"], i["base"]) for i in description.intervals][0] == ("seafloor (automatic)", "top")
     assert description.seafloor_source == "automatic"
+
+
+def test_inclined_reflections_downlap_onto_a_flat_base_and_are_truncated_at_a_flat_top(rules):
+    """Reflections dipping 1.5 ms per trace (deeper to the right) every 40 ms between a flat top and a
+    flat base, cut by both: each ends at its own down-dip end against the base (downlap) and meets
+    the top at an undiminished angle (truncation) (Mitchum, Vail and Sangree 1977, from memory)."""
+    base = np.full(N_TRACES, 800.0)
+    reflectivity = clear(background(), base)
+    rng = np.random.default_rng(8)
+    traces = np.arange(N_TRACES)
+    for start in np.arange(100.0, 800.0, 40.0):
+        twt = start + 1.5 * traces
+        inside = (twt > TOP_MS + 8.0) & (twt < 800.0 - 8.0)
+        reflectivity[traces[inside], [sample(t) for t in twt[inside]]] = rng.choice([-1, 1]) * rng.uniform(0.15, 0.3)
+    description = describe_section(section_of(bound(reflectivity, base)), picks_of(base), rules)
+    unit = interval(description)
+    assert unit["configuration"]["base_termination"] == "downlap"
+    assert unit["configuration"]["top_termination"] == "truncation"
+    assert unit["configuration"]["thickening"] == "none"
+    assert unit["configuration"]["class"] in ("parallel", "subparallel")

@@ -586,17 +586,23 @@ def _closure(section: Section, picks: Picks, geometry: _ContactGeometry, seafloo
 
 # --- contact.unpicked-flat-event ----------------------------------------------------------------
 
-def _window_mean(values: np.ndarray, weights: np.ndarray, start: int, stop: int) -> tuple[np.ndarray, np.ndarray]:
-    """Weighted mean along time of ``values`` over samples [t + start, t + stop] and the summed weight,
-    for every sample t; windows reaching outside the panel count only their inside part."""
-    n_samples = values.shape[1]
-    padded_values = np.concatenate((np.zeros((values.shape[0], 1)), np.cumsum(values * weights, axis=1)), axis=1)
-    padded_weights = np.concatenate((np.zeros((values.shape[0], 1)), np.cumsum(weights, axis=1)), axis=1)
-    t = np.arange(n_samples)
-    low = np.clip(t + start, 0, n_samples)
-    high = np.clip(t + stop + 1, 0, n_samples)
-    total_weight = padded_weights[:, high] - padded_weights[:, low]
-    total = padded_values[:, high] - padded_values[:, low]
+def _window_sums(values: np.ndarray, weights: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Running sums along time of ``values * weights`` and of ``weights``, each with a leading zero column."""
+    zeros = np.zeros((values.shape[0], 1))
+    return (np.concatenate((zeros, np.cumsum(values * weights, axis=1)), axis=1),
+            np.concatenate((zeros, np.cumsum(weights, axis=1)), axis=1))
+
+
+def _window_mean_at(sums: tuple[np.ndarray, np.ndarray], rows: np.ndarray, columns: np.ndarray, start: int,
+                    stop: int) -> tuple[np.ndarray, np.ndarray]:
+    """Weighted mean along time over samples [t + start, t + stop] and the summed weight, at the points
+    (rows, columns); windows reaching outside the panel count only their inside part."""
+    padded_values, padded_weights = sums
+    n_samples = padded_values.shape[1] - 1
+    low = np.clip(columns + start, 0, n_samples)
+    high = np.clip(columns + stop + 1, 0, n_samples)
+    total_weight = padded_weights[rows, high] - padded_weights[rows, low]
+    total = padded_values[rows, high] - padded_values[rows, low]
     with np.errstate(invalid="ignore", divide="ignore"):
         mean = np.where(total_weight > 0, total / np.where(total_weight > 0, total_weight, 1.0), np.nan)
     return mean, total_weight
@@ -611,32 +617,45 @@ def _unpicked_flat_events(section: Section, picks: Picks, field: DipField, inter
     dip_ms_per_trace = field.dip_samples_per_trace * dt_ms
     time_deg = _angle_deg(dip_ms_per_trace, interval_velocity_m_s, spacing_m)
     if section.n_traces > 1:
-        seafloor_dip_ms_per_trace = np.gradient(gaussian_filter1d(seafloor_twt_ms, 3.0, mode="nearest"))[:, None]
+        seafloor_dip_ms_per_trace = np.gradient(gaussian_filter1d(seafloor_twt_ms, 3.0, mode="nearest"))
     else:
-        seafloor_dip_ms_per_trace = np.zeros((1, 1))
-    # dz/dx = v/2 (p - s) + v_w/2 s, s = seafloor time dip (chain rule on z(t, x) of the velocity model)
-    depth_slope = (interval_velocity_m_s / 2.0 * (dip_ms_per_trace - seafloor_dip_ms_per_trace)
-                   + velocity.water_velocity_m_s / 2.0 * seafloor_dip_ms_per_trace) / 1000.0 / spacing_m
-    depth_deg = np.degrees(np.arctan(depth_slope))
+        seafloor_dip_ms_per_trace = np.zeros(1)
     exclude = int(np.ceil(settings["stratal_exclude_ms"] / dt_ms))
     reach = max(exclude + 1, int(round(settings["stratal_window_ms"] / dt_ms)))
     usable = (field.coherence >= settings["min_coherence"]).astype(float)
-    above_deg, above_weight = _window_mean(time_deg, usable, -reach, -exclude)
-    below_deg, below_weight = _window_mean(time_deg, usable, exclude, reach)
     enough = 0.5 * (reach - exclude + 1)
     minimum_dip = float(settings["min_stratal_dip_deg"])
     flat_limit = float(settings["flat_max_angle_deg"])
     twt_grid = section.twt_ms[None, :]
-    flat = ((field.coherence >= settings["flat_min_coherence"])
-            & ((np.abs(time_deg) <= flat_limit) | (np.abs(depth_deg) <= flat_limit))
-            & (twt_grid > seafloor_twt_ms[:, None] + settings["stratal_exclude_ms"]))
+    # the measures below are taken only on coherent samples below the seafloor and away from the picks
+    candidate = ((field.coherence >= settings["flat_min_coherence"])
+                 & (twt_grid > seafloor_twt_ms[:, None] + settings["stratal_exclude_ms"]))
     for horizon in picks.horizons:
         with np.errstate(invalid="ignore"):
             near = np.abs(twt_grid - horizon.twt_ms[:, None]) <= settings["stratal_exclude_ms"]
-        flat &= ~near
+        candidate &= ~near
+    rows, columns = np.nonzero(candidate)
+    seafloor_dip = seafloor_dip_ms_per_trace[rows] if section.n_traces > 1 else np.zeros(rows.size)
+    # dz/dx = v/2 (p - s) + v_w/2 s, s = seafloor time dip (chain rule on z(t, x) of the velocity model)
+    depth_slope = (interval_velocity_m_s[rows, columns] / 2.0 * (dip_ms_per_trace[rows, columns] - seafloor_dip)
+                   + velocity.water_velocity_m_s / 2.0 * seafloor_dip) / 1000.0 / spacing_m
+    depth_deg = np.degrees(np.arctan(depth_slope))
+    level = (np.abs(time_deg[rows, columns]) <= flat_limit) | (np.abs(depth_deg) <= flat_limit)
+    rows, columns = rows[level], columns[level]
+    flat = np.zeros(candidate.shape, dtype=bool)
+    flat[rows, columns] = True
+    sums = _window_sums(time_deg, usable)
+    above_deg, above_weight = _window_mean_at(sums, rows, columns, -reach, -exclude)
+    below_deg, below_weight = _window_mean_at(sums, rows, columns, exclude, reach)
+    here_deg = time_deg[rows, columns]
     with np.errstate(invalid="ignore"):
-        cutting = (flat & (above_weight >= enough) & (below_weight >= enough)
-                   & (np.abs(above_deg - time_deg) >= minimum_dip) & (np.abs(below_deg - time_deg) >= minimum_dip))
+        cuts = ((above_weight >= enough) & (below_weight >= enough)
+                & (np.abs(above_deg - here_deg) >= minimum_dip) & (np.abs(below_deg - here_deg) >= minimum_dip))
+    cutting = np.zeros(candidate.shape, dtype=bool)
+    cutting[rows[cuts], columns[cuts]] = True
+    above_at = np.full(candidate.shape, np.nan)
+    below_at = np.full(candidate.shape, np.nan)
+    above_at[rows, columns], below_at[rows, columns] = above_deg, below_deg
     if not cutting.any():
         return []
     labels, _ = label(flat, structure=np.ones((3, 3)))
@@ -678,8 +697,8 @@ def _unpicked_flat_events(section: Section, picks: Picks, field: DipField, inter
             "coherence_median": coherence,
             "dip_ms_per_km_median": float(np.median(dip_ms_per_trace[trace_index, sample_index]) * 1000.0 / spacing_m),
             "dip_deg_median": float(np.median(time_deg[trace_index, sample_index])),
-            "stratal_dip_deg_above_median": float(np.median(above_deg[trace_index, sample_index])),
-            "stratal_dip_deg_below_median": float(np.median(below_deg[trace_index, sample_index])),
+            "stratal_dip_deg_above_median": float(np.median(above_at[trace_index, sample_index])),
+            "stratal_dip_deg_below_median": float(np.median(below_at[trace_index, sample_index])),
             "flat_in_time_fraction": float(np.mean(np.abs(time_deg[trace_index, sample_index]) <= flat_limit)),
             "amplitude_ratio": amplitude_ratio,
             "near_seafloor_multiple": bool(on_multiple),

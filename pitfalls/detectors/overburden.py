@@ -121,8 +121,8 @@ def _judge(section: Section, horizon: Horizon, seafloor_twt_ms: np.ndarray, pred
     twt = horizon.twt_ms[stretch]
     below_ms = np.nanmedian(twt - seafloor_twt_ms[stretch])
     sediment_depth_m = float(velocity.depth_below_seafloor_m(below_ms))
-    average_m_s = sediment_depth_m / (below_ms / 2000.0) if below_ms > 0 else velocity.seafloor_velocity_m_s
-    depth_left_m = comparison.corrected_relief_ms * average_m_s / 2000.0  # vertical-ray depth of the time relief left
+    average_m_s = float(sediment_depth_m / (below_ms / 2000.0)) if below_ms > 0 else velocity.seafloor_velocity_m_s
+    depth_left_m = float(comparison.corrected_relief_ms * average_m_s / 2000.0)  # vertical-ray depth of the relief left
     whole = np.isfinite(period_ms) and comparison.corrected_relief_ms < settings["residual_periods"] * period_ms
     closeness = 1.0 - min(1.0, abs(np.log(max(scale, 1e-9))) / np.log(settings["max_scale_factor"]))
     confidence = float(np.clip(comparison.correlation * closeness, 0.0, 1.0))

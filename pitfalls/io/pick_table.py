@@ -119,12 +119,11 @@ def read_pick_table(picks: Any, label: str = TABLE_LABEL) -> PickFile:
     for values in zip(*(columns[name] for name in names)):
         writer.writerow([_cell(value) for value in values])
     try:
-        parsed = parse_pick_text(label, buffer.getvalue())
+        parsed = parse_pick_text(label, buffer.getvalue(), keep_text=True, require_horizon=True)
     except PitfallsInputError as err:
         raise PitfallsInputError(err.path, _from_zero(err.where), _from_zero(err.problem), err.fix) from None
-    return replace(parsed,
-                   rows=tuple(replace(row, row=row.row - _ROWS_BEFORE_FIRST) for row in parsed.rows),
-                   merged_rows=tuple(replace(row, row=row.row - _ROWS_BEFORE_FIRST) for row in parsed.merged_rows))
+    return replace(parsed, row=parsed.row - _ROWS_BEFORE_FIRST, merged_rows=parsed.merged_rows - _ROWS_BEFORE_FIRST,
+                   row_offset=_ROWS_BEFORE_FIRST)
 
 
 def _from_zero(text: str) -> str:

@@ -160,16 +160,17 @@ def find_seafloor(section: Section, picks: Picks, rules: Mapping[str, Any]) -> S
     """
     snap_ms = float(rules["seafloor"]["snap_ms"])
     picked = [h for h in picks.horizons if h.kind == "seafloor"]
-    automatic = auto_seafloor(section, rules)
     if picked:
         twt = np.array(picked[0].twt_ms, dtype=float)
         gaps = ~np.isfinite(twt)
         source = "picked"
-        if gaps.any() and np.isfinite(automatic[gaps]).any():
-            twt[gaps] = automatic[gaps]
-            source = "picked+automatic"
+        if gaps.any():  # the automatic pick only where the interpreter's has gaps (it is not needed elsewhere)
+            automatic = auto_seafloor(section, rules)
+            if np.isfinite(automatic[gaps]).any():
+                twt[gaps] = automatic[gaps]
+                source = "picked+automatic"
     else:
-        twt, source = automatic, "automatic"
+        twt, source = auto_seafloor(section, rules), "automatic"
     amplitude = amplitude_at(section, twt, snap_ms)
     twt = np.where(np.isfinite(amplitude) & (amplitude != 0), twt, np.nan)
     return Seafloor(twt_ms=twt, amplitude=amplitude, polarity=majority_sign(amplitude), source=source)

@@ -70,6 +70,8 @@ def report_dict(result: ScanResult) -> dict[str, Any]:
         "picks": [{"horizon": p.horizon, "kind": p.kind, "n_points": p.n_points, "n_gaps": p.n_gaps}
                   for p in result.picks],
         "rules": {"path": result.rules_path, "sha256": result.rules_sha256},
+        "velocity": {"function": result.velocity.describe(), "source": result.velocity.source},
+        "pick_notes": list(result.pick_notes),
         "detectors": [{"name": run.name, "status": run.status, "seconds": round(run.seconds, 4)}
                       for run in result.detectors],
         "findings": [finding_dict(f) for f in result.findings],

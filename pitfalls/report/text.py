@@ -30,10 +30,14 @@ def velocity_sentence(velocity: Any) -> str:
     """Which velocity function the depths in the report came from, in words."""
     if velocity is None:
         return "Depths come from the velocity function stated for each section; a different velocity moves every depth."
+    if getattr(velocity, "is_table", False):
+        return (f"Depths come from the stated velocity function: {velocity.describe()}; a different velocity "
+                f"moves every depth.")
     return (f"Depths come from the stated velocity function: water at {velocity.water_velocity_m_s:g} m/s down "
             f"to the seafloor, then {velocity.seafloor_velocity_m_s:g} m/s increasing by "
             f"{velocity.gradient_per_s:g} m/s per metre below the seafloor, at most "
-            f"{velocity.max_velocity_m_s:g} m/s; a different velocity moves every depth.")
+            f"{velocity.max_velocity_m_s:g} m/s ({velocity.describe().rsplit('; ', 1)[-1]}); a different velocity "
+            f"moves every depth.")
 
 
 def general_caution(found_anything: bool, velocity: Any = None) -> str:
@@ -112,10 +116,12 @@ def section_lines(result: ScanResult) -> list[str]:
         f"Seafloor: {seafloor.source}, found on {seafloor.n_traces_found} traces, median {seafloor.twt_ms_median:.0f} ms, "
         f"{polarity} in this file's sign convention; dominant frequency {seafloor.dominant_frequency_hz:.0f} Hz",
         f"Rules: {result.rules_path}",
+        f"Velocity: {result.velocity.describe()}",
     ]
     extent = info.coordinate_extent_xy
     lines.insert(1, "Coordinates: none in the trace headers (CDP X/Y bytes 181/185 are zero)" if extent is None else
                  f"Coordinates: CDP X {extent[0][0]:.1f} to {extent[1][0]:.1f}, Y {extent[0][1]:.1f} to {extent[1][1]:.1f} "
                  "(bytes 181/185, scalar of byte 71 applied)")
     lines += [f"Note: {note}" for note in info.notes]
+    lines += [f"Picks: {note}" for note in result.pick_notes]
     return lines

@@ -96,3 +96,10 @@ def test_horizon_that_is_not_pulled_down_is_clean(rules):
     modelled, picks = line(np.full(N_TRACES, 1500.0), 150.0)
     flat = np.full(N_TRACES, float(np.nanmedian(picks.horizons[0].twt_ms[:50])))
     assert run_detector(overburden, modelled.section, Picks((Horizon("H", "horizon", flat),)), rules) == []
+
+
+def test_evidence_is_plain_numbers(rules):
+    """Evidence values are plain Python numbers and booleans, as the report contract asks."""
+    modelled, picks = line(np.full(N_TRACES, 1500.0), 150.0)
+    evidence = run_detector(overburden, modelled.section, picks, rules)[0].evidence
+    assert all(type(value) in (float, int, bool) for value in evidence.values()), evidence
