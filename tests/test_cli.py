@@ -290,3 +290,14 @@ def test_jobs_must_be_a_positive_number(line, skipped_picks):
     result = pitfalls("scan", line, "--picks", skipped_picks, "--jobs", "0")
     assert result.returncode == 2 and result.stdout == ""
     assert result.stderr.count("\n") == 1 and "--jobs" in result.stderr and "Traceback" not in result.stderr
+
+
+def test_scan_start_up_loads_no_slow_scipy_subpackage():
+    """scipy.signal loads scipy.stats, which with scipy.optimize, .spatial and .sparse costs seconds at
+    start-up; the scan's modules import them only inside the functions that need them."""
+    code = ("import sys\nimport pitfalls.engine, pitfalls.detectors, pitfalls.io.rules, pitfalls.report.terminal\n"
+            "print(sorted(m for m in ('scipy.signal', 'scipy.stats', 'scipy.optimize', 'scipy.spatial', 'scipy.sparse')"
+            " if m in sys.modules))\n")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.strip() == "[]"

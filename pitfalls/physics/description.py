@@ -45,9 +45,8 @@ from dataclasses import dataclass
 
 import numpy as np
 from numpy.lib.stride_tricks import sliding_window_view
-from scipy.sparse import coo_matrix
-from scipy.sparse.csgraph import connected_components
-from scipy.signal import hilbert
+
+from pitfalls.physics.envelope import analytic_signal as hilbert  # scipy.signal.hilbert's transform, without loading scipy.stats
 
 CONFIGURATION_CLASSES = ("parallel", "subparallel", "divergent", "chaotic", "reflection-free")
 TERMINATIONS = ("concordant", "onlap", "downlap", "toplap", "truncation")
@@ -254,6 +253,8 @@ def segment_lengths(data: np.ndarray, points: np.ndarray, dip_samples_per_trace:
         linked |= ok
     source = np.concatenate(sources)
     target = np.concatenate(targets)
+    from scipy.sparse import coo_matrix  # loaded when intervals are measured
+    from scipy.sparse.csgraph import connected_components
     graph = coo_matrix((np.ones(source.size), (source, target)), shape=(flat.size, flat.size))
     _, label = connected_components(graph, directed=False)
     first = np.full(label.max() + 1, n_traces, dtype=np.int64)

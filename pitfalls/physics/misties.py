@@ -38,8 +38,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.signal import hilbert
-from scipy.spatial import cKDTree
+
+from pitfalls.physics.envelope import analytic_signal as hilbert  # scipy.signal.hilbert's transform, without loading scipy.stats
 
 
 @dataclass(frozen=True)
@@ -83,6 +83,7 @@ def line_crossings(xy_a: np.ndarray, xy_b: np.ndarray, spacing_a_m: float, spaci
     start_b, step_b = xy_b[:-1], np.diff(xy_b, axis=0)
     half_a = 0.5 * np.hypot(step_a[:, 0], step_a[:, 1])
     half_b = 0.5 * np.hypot(step_b[:, 0], step_b[:, 1])
+    from scipy.spatial import cKDTree  # loaded when a tie is looked for
     tree_b = cKDTree(start_b + 0.5 * step_b)
     radius = float(half_a.max() + half_b.max()) * 1.000001
     candidates = tree_b.query_ball_point(start_a + 0.5 * step_a, r=radius)
@@ -145,6 +146,7 @@ def volume_ties(xy_line: np.ndarray, xy_volume: np.ndarray, tolerance_m: float,
     """
     if len(xy_line) == 0 or len(xy_volume) == 0:
         return []
+    from scipy.spatial import cKDTree  # loaded when a tie is looked for
     distance, nearest = cKDTree(np.asarray(xy_volume, dtype=float)).query(np.asarray(xy_line, dtype=float))
     inside = distance <= tolerance_m * 1.000001
     ties = []
