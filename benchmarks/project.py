@@ -1,7 +1,7 @@
 """Project run time and memory on a modelled grid of crossing lines and two small volumes.
 
     python benchmarks/project.py [--out benchmarks/out/project] [--lines-per-direction 6]
-                                 [--traces 201] [--inlines 20 --xlines 40] [--repeat 1]
+                                 [--traces 201] [--inlines 20 --xlines 40] [--samples 330] [--repeat 1]
 
 Writes (once) a grid of east-west and north-south 2-D lines (6 + 6 by default, 36 crossings)
 and two small 3-D surveys crossed by some of them, with one planted mis-pick, all modelled with
@@ -92,6 +92,8 @@ def main() -> None:
     parser.add_argument("--traces", type=int, default=201)
     parser.add_argument("--inlines", type=int, default=20)
     parser.add_argument("--xlines", type=int, default=40)
+    parser.add_argument("--samples", type=int, default=330, help="samples per trace at 4 ms; raise it for wide grids, "
+                        "whose dipping horizons run deeper at the far corner")
     parser.add_argument("--repeat", type=int, default=1, help="runs per configuration; the fastest is kept")
     args = parser.parse_args()
     project = os.path.join(args.out, "project.yaml")
@@ -102,7 +104,7 @@ def main() -> None:
         volumes = [GridVolume("QV26-3D-A", (0.1 * length, 0.1 * length), args.inlines, args.xlines, 12.5),
                    GridVolume("QV26-3D-B", (0.55 * length, 0.55 * length), args.inlines, args.xlines, 12.5,
                               first_inline=500, first_xline=700)]
-        write_grid(args.out, lines, volumes, pick_shift_ms={(lines[-1].name, "H2"): 40.0})
+        write_grid(args.out, lines, volumes, n_samples=args.samples, pick_shift_ms={(lines[-1].name, "H2"): 40.0})
         print(f"wrote {len(lines)} lines of {args.traces} traces and 2 volumes of {args.inlines} x {args.xlines} "
               f"in {time.perf_counter() - started:.1f} s to {args.out}")
     configurations = [("1 local worker", ["--jobs", "1"]), ("2 local workers", ["--jobs", "2"])]

@@ -138,4 +138,5 @@ def test_a_project_section_uses_its_velocity_file(files, tmp_path):
     report = json.loads(done.stdout)
     assert [s["status"] for s in report["sections"]] == ["ran", "failed"], done.stderr
     assert "sediment.seafloor_velocity_m_s" in report["sections"][1]["error"]
+    assert "2400 m/s" in report["sections"][0]["velocity"] and report["sections"][1]["velocity"] is None
     assert "contact.tilted" not in {f["id"] for f in report["findings"] if f["horizon"] == "GWC"}

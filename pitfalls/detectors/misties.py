@@ -57,8 +57,9 @@ KINDS = {
         "A horizon mapped from lines that do not tie carries a step at every crossing: false closures, false "
         "throws and wrong thicknesses follow, and the volume booked on the map is wrong.",
         "Display the two sections side by side at the crossing, shifted by the seafloor's bulk shift; follow the "
-        "event from one line into the other and re-pick the line whose pick left it (the finding says which "
-        "lies on a multiple or on another loop, where the times show it).",
+        "event from one line into the other and re-pick the section whose pick left it. The finding names the "
+        "section that mis-ties this horizon at more of its crossings, and says when a pick lies on a multiple "
+        "or on another loop of the same event, where the times show it.",
     ),
 }
 RULE_KEYS = {

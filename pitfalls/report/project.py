@@ -55,6 +55,7 @@ def section_entry(result: ProjectResult, outcome: SectionOutcome) -> dict[str, A
         "n_traces": scan.section.n_traces if scan is not None else None,
         "picks": [p.horizon for p in scan.picks] if scan is not None else [],
         "detectors_failed": [run.name for run in scan.failed] if scan is not None else [],
+        "velocity": scan.velocity.describe() if scan is not None else None,
         "seconds": round(outcome.seconds, 4),
     }
 
