@@ -285,16 +285,24 @@ class Report:
         from pitfalls.report.markdown import render
         return render(self._result)
 
-    def to_text(self, width: int = 120) -> str:
-        """The terminal report as plain text (no colour), ``width`` characters wide."""
+    def to_text(self, width: int = 120, detail: str = "top") -> str:
+        """The terminal report as plain text (no colour), ``width`` characters wide.
+
+        ``detail`` is ``top`` (evidence panels for medium and above) or ``all``, as ``--detail``.
+        """
         import io
 
         from rich.console import Console
 
         from pitfalls.report.terminal import render
         buffer = io.StringIO()
-        Console(file=buffer, width=width, color_system=None, force_terminal=False).print(render(self._result))
+        Console(file=buffer, width=width, color_system=None, force_terminal=False).print(render(self._result, detail))
         return buffer.getvalue()
+
+    def accepted_template(self) -> str:
+        """A starting accepted-findings file (YAML) with every finding commented out, as ``--write-accepted``."""
+        from pitfalls.report.accepted import accepted_file_text
+        return accepted_file_text(self._result)
 
     def __rich__(self) -> Any:
         """The terminal report as rich renderables, so ``rich.print(report)`` shows it in colour."""
@@ -449,7 +457,7 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
          coordinates: Any = None, trace_spacing_m: float | None = None, name: str | None = None,
          iline_byte: int | None = None, xline_byte: int | None = None, force_2d: bool = False,
          columns: str | Sequence[str] | None = None, horizon: str | None = None, velocity: Any = None,
-         progress: Callable[..., None] | None = None) -> Report:
+         accepted: str | os.PathLike | None = None, progress: Callable[..., None] | None = None) -> Report:
     """Scan a section and its picks with every selected detector; return the ranked report.
 
     Parameters
@@ -504,6 +512,9 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
         The velocity function for every depth in the report: a velocity file (YAML, or a
         two-column table), as ``--velocity``, or a ``pitfalls.physics.velocity.VelocityModel``;
         the rules' function when None.
+    accepted : str or path-like, optional
+        An accepted-findings file (as ``--accepted``): the findings it names are shown as
+        accepted and do not fail a gate.
     progress : callable, optional
         Called after every block as ``progress(panels_done, panels_total, samples_done)``.
 
@@ -527,6 +538,10 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
     """
     from pitfalls import engine
     active = load_rules(rules)
+    entries = ()
+    if accepted is not None:
+        from pitfalls.io.accepted import read_accepted
+        entries = read_accepted(os.fspath(accepted))
     detectors = engine.select_detectors(_only(only))
     if jobs is not None and (isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1):
         raise PitfallsInputError("jobs", "", f"is {jobs!r}", "give a whole number of worker processes, 1 or more")
@@ -571,12 +586,20 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
             result = engine.scan_source(seismic, pick_files, values, active.path, active.sha256, detectors,
                                         progress=progress, velocity=velocity,
                                         jobs=default_jobs() if jobs is None else jobs)
-        return Report(result, active, file_options={"iline_byte": iline_byte or DEFAULT_INLINE_BYTE,
+        return Report(_accept(result, entries, accepted), active, file_options={"iline_byte": iline_byte or DEFAULT_INLINE_BYTE,
                                                     "xline_byte": xline_byte or DEFAULT_XLINE_BYTE,
                                                     "force_2d": force_2d})
     result = engine.scan_source(source, pick_files, values, active.path, active.sha256, detectors, progress=progress,
                                 velocity=velocity, jobs=1 if jobs is None else jobs)
-    return Report(result, active, source)
+    return Report(_accept(result, entries, accepted), active, source)
+
+
+def _accept(result: "ScanResult", entries: Sequence[Any], accepted: Any) -> "ScanResult":
+    """The result with the reviewer's accepted findings marked, when a file was given."""
+    if accepted is None:
+        return result
+    from pitfalls.report.accepted import apply_accepted
+    return apply_accepted(result, entries)
 
 
 def default_jobs() -> int:

@@ -136,11 +136,7 @@ def _report_text(report, fmt: str, width: int = 120, detail: str = "top") -> str
         return report.to_json()
     if fmt == "markdown":
         return report.to_markdown()
-    from pitfalls.report.terminal import render
-    from rich.console import Console
-    buffer = io.StringIO()
-    Console(file=buffer, width=width, color_system=None, force_terminal=False).print(render(report.scan_result, detail))
-    return buffer.getvalue()
+    return report.to_text(width, detail)
 
 
 def _scan(args: argparse.Namespace, stdout: Console) -> int:
@@ -148,10 +144,6 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.force_2d and (args.iline_byte or args.xline_byte):
         raise PitfallsInputError("command line", "", "--2d cannot be combined with --iline-byte/--xline-byte",
                                  "use --2d for a line, or the byte options for a 3-D volume")
-    accepted = ()
-    if args.accepted:
-        from pitfalls.io.accepted import read_accepted
-        accepted = read_accepted(args.accepted)
     inputs = {os.path.abspath(p) for p in [args.section, *args.picks, *([args.accepted] if args.accepted else [])]}
     for target in (args.output, args.annotated_picks, args.figure, args.map, args.geojson, args.write_accepted):
         if target and os.path.abspath(target) in inputs:
@@ -167,21 +159,16 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
         check_colour_map(args.figure_colours)
     options = dict(picks=args.picks, rules=args.rules, only=args.only, jobs=_jobs(args.jobs),
                    iline_byte=args.iline_byte, xline_byte=args.xline_byte, force_2d=args.force_2d,
-                   columns=args.columns, horizon=args.horizon, velocity=args.velocity)
+                   columns=args.columns, horizon=args.horizon, velocity=args.velocity, accepted=args.accepted)
     if sys.stderr.isatty():
         with _progress_bar() as progress:
             report = pitfalls.scan(args.section, progress=progress, **options)
     else:
         report = pitfalls.scan(args.section, **options)
-    if args.accepted:
-        from pitfalls.report.accepted import apply_accepted
-        report = type(report)(apply_accepted(report.scan_result, accepted), report.rules,
-                              getattr(report, "_source", None), getattr(report, "_file_options", None))
     result = report.scan_result
     _emit(report, args.format, args.output, args.quiet, stdout, args.detail)
     if args.write_accepted:
-        from pitfalls.report.accepted import accepted_file_text
-        write_atomically(args.write_accepted, accepted_file_text(result))
+        write_atomically(args.write_accepted, report.accepted_template())
     if args.annotated_picks:
         if not args.picks:
             raise PitfallsInputError("--annotated-picks", "", "needs at least one --picks file", "add --picks FILE")
