@@ -1,7 +1,10 @@
 """The command line: the only module that prints or exits.
 
 Exit codes: 0 the scan ran and no finding reached ``--fail-on``; 1 a finding reached it or a
-detector failed; 2 bad input or usage (one line on stderr, no traceback).
+detector failed; 2 bad input or usage (one line on stderr, no traceback); 130 stopped by
+SIGINT and 143 by SIGTERM (one line, no traceback, no temporary file left beside an output).
+The heavy modules (numpy, scipy, rich, the detectors) are imported inside :func:`main`, so
+an interruption while they load is handled like any other.
 """
 from __future__ import annotations
 
@@ -9,17 +12,23 @@ import argparse
 import io
 import json
 import os
+import signal
 import sys
-from typing import Sequence
-
-from rich.console import Console
+from typing import TYPE_CHECKING, Sequence
 
 from pitfalls import __version__
-from pitfalls import detectors as registry
 from pitfalls.errors import PitfallsInputError
-from pitfalls.io.output import write_whole
+from pitfalls.io.output import check_output_folder, check_run_paths, write_whole
+
+if TYPE_CHECKING:
+    from rich.console import Console
 
 EXIT_OK, EXIT_FINDINGS, EXIT_INPUT = 0, 1, 2
+EXIT_SIGINT, EXIT_SIGTERM = 130, 143
+
+
+class Terminated(BaseException):
+    """SIGTERM arrived: unwinds like KeyboardInterrupt, so temporary files are removed on the way out."""
 
 
 class _Parser(argparse.ArgumentParser):
@@ -30,6 +39,7 @@ class _Parser(argparse.ArgumentParser):
 
 
 def build_parser() -> argparse.ArgumentParser:
+    from pitfalls import detectors as registry
     parser = _Parser(prog="pitfalls", description=(
         "Screen seismic interpretation picks on a post-stack SEG-Y section for physical pitfalls "
         "(multiples, false fluid contacts, cross-cutting boundaries, pick errors)."))
@@ -74,11 +84,13 @@ def write_atomically(path: str, text: str | bytes) -> None:
 
 
 def _load_rules(path: str | None):
+    from pitfalls import detectors as registry
     from pitfalls.io.rules import load_rules
     return load_rules(path, registry.rule_keys())
 
 
 def _render_text(result, fmt: str, width: int | None = None) -> str:
+    from rich.console import Console
     if fmt == "json":
         from pitfalls.report.json_report import report_dict
         return json.dumps(report_dict(result), indent=2) + "\n"
@@ -97,13 +109,17 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
         raise PitfallsInputError("command line", "", "--2d cannot be combined with --iline-byte/--xline-byte",
                                  "use --2d for a line, or the byte options for a 3-D volume")
     only = [name.strip() for name in args.only.split(",") if name.strip()] if args.only else None
+    if args.annotated_picks and not args.picks:
+        raise PitfallsInputError("--annotated-picks", "", "needs at least one --picks file", "add --picks FILE")
+    check_run_paths(inputs={"SECTION": args.section, "--picks": args.picks, "--rules": args.rules},
+                    outputs={"--output": args.output, "--annotated-picks": args.annotated_picks,
+                             "--figure": args.figure},
+                    repeatable=("--picks",))
     rules, rules_path, rules_sha = _load_rules(args.rules)
-    for target in (args.output, args.annotated_picks, args.figure):
-        if target and os.path.abspath(target) in {os.path.abspath(p) for p in [args.section, *args.picks]}:
-            raise PitfallsInputError(target, "", "is one of the input files", "write the output somewhere else; inputs are never changed")
     if args.figure:
         from pitfalls.report.figure import require_matplotlib
         require_matplotlib()
+    from rich.console import Console
     progress_console = Console(stderr=True)
     show_progress = sys.stderr.isatty()
     if show_progress:
@@ -111,15 +127,13 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
         with Progress(console=progress_console, transient=True) as bar:
             task = bar.add_task("scanning", total=None)
             result = scan(args.section, args.picks, rules, rules_path, rules_sha, only,
-                          args.iline_byte or 189, args.xline_byte or 193, args.force_2d,
+                          _byte(args.iline_byte, 189), _byte(args.xline_byte, 193), args.force_2d,
                           progress=lambda done, total: bar.update(task, completed=done, total=total))
     else:
         result = scan(args.section, args.picks, rules, rules_path, rules_sha, only,
-                      args.iline_byte or 189, args.xline_byte or 193, args.force_2d)
+                      _byte(args.iline_byte, 189), _byte(args.xline_byte, 193), args.force_2d)
     _emit(result, args.format, args.output, args.quiet, stdout)
     if args.annotated_picks:
-        if not args.picks:
-            raise PitfallsInputError("--annotated-picks", "", "needs at least one --picks file", "add --picks FILE")
         from pitfalls.report.annotated import render as render_annotated
         write_atomically(args.annotated_picks, render_annotated(result))
     if args.figure:
@@ -128,6 +142,11 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if result.failed or result.reaches(args.fail_on):
         return EXIT_FINDINGS
     return EXIT_OK
+
+
+def _byte(given: int | None, default: int) -> int:
+    """The header byte option, or its default when not given (0 is a value, refused by the reader)."""
+    return default if given is None else given
 
 
 def _emit(result, fmt: str, output: str | None, quiet: bool, stdout: Console) -> None:
@@ -148,6 +167,7 @@ def _demo(args: argparse.Namespace, stdout: Console) -> int:
     from pitfalls.engine import scan
     from pitfalls.modelling.demo import write_demo
     from pitfalls.report.terminal import render
+    check_output_folder(args.out, "--out")
     os.makedirs(args.out, exist_ok=True)
     written = write_demo(args.out)
     rules, rules_path, rules_sha = _load_rules(None)
@@ -177,6 +197,7 @@ def _rules(args: argparse.Namespace) -> int:
 
 
 def _explain(args: argparse.Namespace, stdout: Console) -> int:
+    from pitfalls import detectors as registry
     kinds = registry.finding_kinds()
     if args.list or not args.finding_id:
         for finding_id, (detector, (meaning, _, _)) in kinds.items():
@@ -193,8 +214,10 @@ def _explain(args: argparse.Namespace, stdout: Console) -> int:
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit code (also used by ``python -m pitfalls``)."""
-    stdout = Console(highlight=False)
+    previous = _catch_sigterm()
     try:
+        from rich.console import Console
+        stdout = Console(highlight=False)
         args = build_parser().parse_args(argv)
         if args.command == "scan":
             return _scan(args, stdout)
@@ -211,8 +234,34 @@ def main(argv: Sequence[str] | None = None) -> int:
         print(f"pitfalls: error: {err.one_line()}", file=sys.stderr)
         return EXIT_INPUT
     except KeyboardInterrupt:
-        print("pitfalls: interrupted", file=sys.stderr)
-        return EXIT_INPUT
+        _stopped("interrupted (SIGINT)")
+        return EXIT_SIGINT
+    except Terminated:
+        _stopped("terminated (SIGTERM)")
+        return EXIT_SIGTERM
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
+
+
+def _raise_terminated(signum: int, frame: object) -> None:
+    raise Terminated()
+
+
+def _catch_sigterm():
+    """Turn SIGTERM into :class:`Terminated` for this run; the previous handler, or None off the main thread."""
+    try:
+        return signal.signal(signal.SIGTERM, _raise_terminated)
+    except (ValueError, OSError):
+        return None
+
+
+def _stopped(how: str) -> None:
+    try:
+        sys.stdout.flush()
+    except (OSError, ValueError):
+        pass
+    print(f"pitfalls: {how}; stopped, no partly written file left", file=sys.stderr)
 
 
 def entry_point() -> None:

@@ -5,6 +5,11 @@ import os
 import subprocess
 import sys
 
+import numpy as np
+import pytest
+
+from segy_files import write_segy
+
 ALIAS_BOMB = "\n".join(
     ["velocity: &a [x, x, x, x, x, x, x, x, x]"]
     + [f"k{i}: &k{i} [{', '.join([('*a' if i == 0 else f'*k{i - 1}')] * 9)}]" for i in range(8)]
@@ -48,3 +53,97 @@ def test_duplicate_rules_key_is_refused(tmp_path):
     before = sha256(rules)
     assert_one_line_error(pitfalls("rules", "--rules", rules), "line 3", "repeats the key 'snap_ms'")
     assert sha256(rules) == before
+
+
+# --- output paths ---------------------------------------------------------------------
+@pytest.fixture
+def run_files(tmp_path):
+    """A tiny valid line, a pick file and a rules file; the checks must refuse before reading them."""
+    twt = np.arange(200) * 4.0
+    trace = np.exp(-((twt - 200.0) / 10.0) ** 2)
+    section = write_segy(tmp_path / "line.sgy", np.tile(trace, (20, 1)))
+    picks = tmp_path / "picks.csv"
+    picks.write_text("horizon,trace,twt_ms\n" + "".join(f"H1,{t},400\n" for t in range(1, 21)))
+    rules = tmp_path / "rules.yaml"
+    rules.write_text("seafloor:\n  snap_ms: 2\n")
+    return section, picks, rules
+
+
+def hashes(*paths):
+    return {str(p): sha256(p) for p in paths}
+
+
+@pytest.mark.parametrize("case", ["output is rules", "output is section via ./", "figure is picks via link",
+                                  "annotated is picks via hard link"])
+def test_output_that_is_an_input_is_refused_before_any_work(tmp_path, run_files, case):
+    section, picks, rules = run_files
+    before = hashes(section, picks, rules)
+    if case == "output is rules":
+        args, words = ["--output", rules], ["--output is also the --rules input file"]
+    elif case == "output is section via ./":
+        args, words = ["--output", f"{tmp_path}/./sub/../line.sgy"], ["--output is also the SECTION input"]
+        (tmp_path / "sub").mkdir()
+    elif case == "figure is picks via link":
+        os.symlink(picks, tmp_path / "link.png")
+        args, words = ["--figure", tmp_path / "link.png"], ["--figure is also the --picks input"]
+    else:
+        os.link(picks, tmp_path / "hard.csv")
+        args, words = ["--annotated-picks", tmp_path / "hard.csv"], ["--annotated-picks is also the --picks"]
+    result = pitfalls("scan", section, "--picks", picks, "--rules", rules, *args)
+    assert_one_line_error(result, *words, "somewhere else")
+    assert hashes(section, picks, rules) == before
+
+
+def test_two_outputs_on_one_path_are_refused(tmp_path, run_files):
+    section, picks, _ = run_files
+    target = tmp_path / "out.txt"
+    result = pitfalls("scan", section, "--picks", picks, "--output", target, "--annotated-picks", f"{tmp_path}/./out.txt")
+    assert_one_line_error(result, "--annotated-picks and --output name the same file", "its own path")
+    assert not target.exists()
+
+
+def test_same_pick_file_twice_is_refused(tmp_path, run_files):
+    section, picks, _ = run_files
+    before = hashes(picks)
+    result = pitfalls("scan", section, "--picks", picks, "--picks", f"{tmp_path}/./picks.csv")
+    assert_one_line_error(result, "given twice with --picks", "give each file once")
+    assert hashes(picks) == before
+
+
+@pytest.mark.parametrize("case", ["existing folder", "missing parent", "parent is a file", "virtual filesystem",
+                                  "read-only filesystem", "name too long", "device"])
+def test_impossible_outputs_are_refused_before_the_scan(tmp_path, run_files, case):
+    section, picks, _ = run_files
+    targets = {
+        "existing folder": (tmp_path, "existing folder"),
+        "missing parent": (tmp_path / "nowhere" / "r.json", "does not exist"),
+        "parent is a file": (tmp_path / "picks.csv" / "r.json", "is a file, not a folder"),
+        "virtual filesystem": ("/proc/r.json", "cannot be written in /proc"),
+        "read-only filesystem": ("/sys/r.json", "cannot be written in /sys"),
+        "name too long": (tmp_path / ("r" * 300 + ".json"), "longer than this folder allows"),
+        "device": ("/dev/null", "not a regular file"),
+    }
+    target, words = targets[case]
+    before = hashes(section, picks)
+    result = pitfalls("scan", section, "--picks", picks, "--format", "json", "--output", target)
+    assert_one_line_error(result, "--output", words)
+    assert str(target) in result.stderr
+    assert result.stdout == ""
+    assert hashes(section, picks) == before
+    assert not [name for name in os.listdir(tmp_path) if name.endswith(".part")]
+
+
+def test_demo_out_naming_an_existing_file_is_refused(tmp_path):
+    existing = tmp_path / "notes.txt"
+    existing.write_text("keep me\n")
+    before = sha256(existing)
+    result = pitfalls("demo", "--out", existing)
+    assert_one_line_error(result, str(existing), "--out names an existing file, not a folder")
+    assert sha256(existing) == before
+
+
+def test_iline_byte_zero_and_equal_bytes_are_refused(run_files):
+    section, picks, _ = run_files
+    assert_one_line_error(pitfalls("scan", section, "--iline-byte", "0", "--xline-byte", "193"), "byte 0")
+    assert_one_line_error(pitfalls("scan", section, "--iline-byte", "189", "--xline-byte", "189"),
+                          "both the inline and the crossline", "--2d")

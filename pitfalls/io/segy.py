@@ -27,6 +27,8 @@ from pitfalls.model import Section, SectionInfo
 
 DEFAULT_INLINE_BYTE = 189  # SEG-Y rev 1 INLINE_3D
 DEFAULT_XLINE_BYTE = 193   # SEG-Y rev 1 CROSSLINE_3D
+MAX_EMPTY_GRID_FACTOR = 4
+"""A header-derived 3-D grid with more than this many positions per trace (over 75 % empty) is refused."""
 
 
 def file_sha256(path: str) -> str:
@@ -77,6 +79,10 @@ class SeismicFile:
     def __init__(self, path: str, fallback_spacing_m: float, iline_byte: int = DEFAULT_INLINE_BYTE,
                  xline_byte: int = DEFAULT_XLINE_BYTE, force_2d: bool = False) -> None:
         self.path = str(path)
+        if not force_2d and iline_byte == xline_byte:
+            raise PitfallsInputError(self.path, f"trace header byte {iline_byte}",
+                                     "is given for both the inline and the crossline number",
+                                     "give two different bytes with --iline-byte/--xline-byte, or use --2d for a line")
         if not os.path.isfile(self.path):
             raise PitfallsInputError(self.path, "", "no such file", "check the path to the SEG-Y section")
         check_layout(self.path)
@@ -153,6 +159,15 @@ class SeismicFile:
         unique_xlines = np.unique(xlines)
         if len(unique_inlines) <= 1 or len(unique_xlines) <= 1:
             return line  # a line, or a volume one inline or one crossline wide
+        positions = len(unique_inlines) * len(unique_xlines)
+        if positions > n_traces * MAX_EMPTY_GRID_FACTOR:
+            # Checked before the grid is allocated: wrong header bytes can give a grid of billions.
+            share = 1.0 - n_traces / positions
+            raise PitfallsInputError(
+                self.path, f"trace header bytes {iline_byte}/{xline_byte}",
+                f"give a {len(unique_inlines)} x {len(unique_xlines)} inline/crossline grid for {n_traces} traces, "
+                f"so {_percent(share)} of its positions would be empty",
+                "use --2d if the file is a line, or give the right bytes with --iline-byte/--xline-byte")
         inline_index = np.searchsorted(unique_inlines, inlines)
         xline_index = np.searchsorted(unique_xlines, xlines)
         grid = np.full((len(unique_inlines), len(unique_xlines)), -1, dtype=np.int64)
@@ -293,6 +308,16 @@ def _read_header_field(handle: segyio.SegyFile, byte: int, path: str) -> np.ndar
     except (KeyError, ValueError, RuntimeError) as err:
         raise PitfallsInputError(path, f"header byte {byte}", "is not the start of a trace header field",
                                  "use the byte where the inline or crossline number starts, e.g. 189 or 193") from err
+
+
+def _percent(share: float) -> str:
+    """A share as a percentage that never rounds a nonzero share to 0 % or a partial one to 100 %."""
+    value = 100.0 * share
+    if 0.0 < value < 0.1:
+        return "under 0.1%"
+    if 99.9 < value < 100.0:
+        return "over 99.9%"
+    return f"{value:.1f}%"
 
 
 def _one_line(err: BaseException) -> str:
