@@ -265,4 +265,20 @@ def _stopped(how: str) -> None:
 
 
 def entry_point() -> None:
-    sys.exit(main())
+    sys.exit(exit_code(main()))
+
+
+def exit_code(code: int) -> int:
+    """``code`` for ``sys.exit``; a run stopped by a signal leaves at once with 130/143.
+
+    The interpreter would otherwise report a SIGINT that arrived inside some library's start-up
+    code as a death by signal, whatever code the program chose.
+    """
+    if code in (EXIT_SIGINT, EXIT_SIGTERM):
+        for stream in (sys.stdout, sys.stderr):
+            try:
+                stream.flush()
+            except (OSError, ValueError):
+                pass
+        os._exit(code)
+    return code

@@ -2,8 +2,10 @@
 inputs unchanged, nothing overwritten."""
 import hashlib
 import os
+import signal
 import subprocess
 import sys
+import time
 
 import numpy as np
 import pytest
@@ -147,3 +149,43 @@ def test_iline_byte_zero_and_equal_bytes_are_refused(run_files):
     assert_one_line_error(pitfalls("scan", section, "--iline-byte", "0", "--xline-byte", "193"), "byte 0")
     assert_one_line_error(pitfalls("scan", section, "--iline-byte", "189", "--xline-byte", "189"),
                           "both the inline and the crossline", "--2d")
+
+
+# --- signals --------------------------------------------------------------------------
+@pytest.mark.parametrize("signum, code", [(signal.SIGINT, 130), (signal.SIGTERM, 143)])
+def test_signals_stop_cleanly_at_any_moment(tmp_path, run_files, signum, code):
+    """Start-up, scan and writing: either the run finishes or it stops with one line, no traceback, no .part file."""
+    section, picks, _ = run_files
+    out = tmp_path / "out"
+    out.mkdir()
+    stopped = 0
+    for delay in (0.15, 0.3, 0.6, 1.0, 1.5, 2.5):
+        process = subprocess.Popen([sys.executable, "-m", "pitfalls", "scan", section, "--picks", picks,
+                                    "--format", "json", "--output", out / "r.json",
+                                    "--annotated-picks", out / "a.csv"],
+                                   stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+        time.sleep(delay)
+        process.send_signal(signum)
+        stdout, stderr = process.communicate(timeout=120)
+        assert "Traceback" not in stderr, stderr
+        assert not [name for name in os.listdir(out) if name.endswith(".part")]
+        if process.returncode == code:
+            stopped += 1
+            assert len(stderr.strip().splitlines()) == 1 and "stopped" in stderr
+        else:
+            assert process.returncode in (0, 1), stderr  # it had finished
+    assert stopped >= 1
+
+
+def test_write_whole_leaves_no_temporary_file_when_interrupted(tmp_path):
+    from pitfalls.cli import Terminated
+    from pitfalls.io.output import write_whole
+    target = tmp_path / "r.json"
+    target.write_text("old\n")
+    for stop in (KeyboardInterrupt, Terminated):
+        def write_into(temporary, stop=stop):
+            temporary.write_text("half")
+            raise stop()
+        with pytest.raises(stop):
+            write_whole(target, write_into)
+        assert os.listdir(tmp_path) == ["r.json"] and target.read_text() == "old\n"
