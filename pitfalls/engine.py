@@ -1,9 +1,12 @@
 """The scan: read the section and the picks, run every selected detector on every panel, rank.
 
-A 2-D line is one panel. A 3-D volume is walked inline by inline (one inline in memory at a
-time); each detector sees one inline as a panel, and its findings are merged across
-neighbouring inlines into inline/crossline ranges. A detector that raises does not stop the
-scan: it is recorded as failed and the other detectors go on.
+The section comes from a source that yields blocks (``SeismicFile`` for SEG-Y): a 2-D line is
+one block of one panel; a 3-D volume comes in blocks of consecutive inlines, each inline a
+panel. For every panel the engine builds one :class:`~pitfalls.context.Context` (seafloor,
+polarity, dominant frequency, dip field, envelope, seafloor-multiple prediction, velocity)
+and calls every detector as ``detect(panel, context, picks, rules)``; the findings of a volume
+are merged across neighbouring inlines into inline/crossline ranges. A detector that raises
+does not stop the scan: it is recorded as failed and the other detectors go on.
 """
 from __future__ import annotations
 
@@ -17,10 +20,14 @@ from pitfalls import detectors as registry
 from pitfalls.errors import PitfallsInputError
 from pitfalls.io.picks import PickFile, read_pick_file
 from pitfalls.io.placement import PlacedPicks, place_picks
+from pitfalls.context import build_context
 from pitfalls.io.segy import DEFAULT_INLINE_BYTE, DEFAULT_XLINE_BYTE, SeismicFile
-from pitfalls.model import DetectorRun, Finding, SectionInfo
-from pitfalls.physics.seafloor import dominant_frequency_hz, find_seafloor
+from pitfalls.model import Block, DetectorRun, Finding, SectionInfo
+from pitfalls.physics.velocity import VelocityModel
 from pitfalls.report.rank import SEVERITY_ORDER, rank_findings
+
+DEFAULT_INLINES_PER_BLOCK = 16
+"""Inlines of a volume read and measured together (a 250-crossline x 1000-sample inline is 1 MB)."""
 
 
 @dataclass(frozen=True)
@@ -81,16 +88,32 @@ def select_detectors(only: Sequence[str] | None) -> tuple:
     return tuple(module for module in registry.DETECTORS if module.NAME in only)
 
 
+@dataclass(frozen=True)
+class PanelOutcome:
+    """What the engine keeps of one panel after its detectors ran: findings and the seafloor it used."""
+
+    findings: tuple[Finding, ...]
+    seafloor_twt_ms: np.ndarray
+    polarity: int
+    source: str
+    dominant_frequency_hz: float
+
+
 def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any], rules_path: str,
          rules_sha256: str, only: Sequence[str] | None = None, iline_byte: int = DEFAULT_INLINE_BYTE,
          xline_byte: int = DEFAULT_XLINE_BYTE, force_2d: bool = False,
-         progress: Callable[[int, int], None] | None = None) -> ScanResult:
-    """Scan one section with its pick files; see the module docstring.
+         progress: Callable[[int, int], None] | None = None, velocity: VelocityModel | None = None,
+         inlines_per_block: int = DEFAULT_INLINES_PER_BLOCK) -> ScanResult:
+    """Scan one SEG-Y section with its pick files; see the module docstring.
 
     Parameters
     ----------
     progress : callable, optional
-        Called as ``progress(done_panels, total_panels)`` after every panel.
+        Called as ``progress(done_panels, total_panels)`` after every block.
+    velocity : VelocityModel, optional
+        The velocity function for every depth; defaults to the rules' (``VelocityModel.from_rules``).
+    inlines_per_block : int
+        Inlines of a volume read and measured together.
 
     Raises
     ------
@@ -100,59 +123,87 @@ def scan(section_path: str, pick_paths: Sequence[str], rules: Mapping[str, Any],
     selected = select_detectors(only)
     pick_files = [read_pick_file(path) for path in pick_paths]
     with SeismicFile(section_path, rules["section"]["fallback_trace_spacing_m"], iline_byte, xline_byte,
-                     force_2d) as seismic:
-        info = seismic.info
-        placed = place_picks(pick_files, info, seismic.layout)
-        seconds = {module.NAME: 0.0 for module in selected}
-        errors: dict[str, str] = {}
-        per_panel: list[list[Finding]] = []
-        seafloor_times: list[np.ndarray] = []
-        polarities: list[int] = []
-        sources: set[str] = set()
-        frequencies: list[float] = []
-        total = info.n_inlines if info.geometry == "3d" else 1
-        for panel_index, panel in enumerate(seismic.panels()):
-            picks = placed.panel(panel_index)
-            seafloor = find_seafloor(panel, picks, rules)
-            seafloor_times.append(seafloor.twt_ms)
-            polarities.append(seafloor.polarity)
-            sources.add(seafloor.source)
-            if panel_index == 0 or panel_index == total // 2:
-                frequencies.append(dominant_frequency_hz(panel, seafloor.twt_ms))
-            found: list[Finding] = []
-            for module in selected:
-                if module.NAME in errors:
-                    continue
-                started = time.perf_counter()
-                try:
-                    result = module.detect(panel, picks, rules)
-                except Exception as err:  # a failing detector must not stop the others
-                    where = f" on {panel.name}" if info.geometry == "3d" else ""
-                    errors[module.NAME] = f"{type(err).__name__}{where}: {' '.join(str(err).split())}"
-                    result = []
-                seconds[module.NAME] += time.perf_counter() - started
-                found.extend(result)
-            if info.geometry == "3d":
-                found = [replace(f, inlines=(panel.inline_number, panel.inline_number), xlines=f.traces, traces=None)
-                         if f.traces is not None else replace(f, inlines=(panel.inline_number, panel.inline_number))
-                         for f in found]
-            per_panel.append(found)
-            if progress is not None:
-                progress(panel_index + 1, total)
+                     force_2d) as source:
+        return scan_source(source, pick_files, rules, rules_path, rules_sha256, selected, progress=progress,
+                           velocity=velocity, inlines_per_block=inlines_per_block)
+
+
+def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any], rules_path: str,
+                rules_sha256: str, selected: Sequence[Any], *, progress: Callable[[int, int], None] | None = None,
+                velocity: VelocityModel | None = None,
+                inlines_per_block: int = DEFAULT_INLINES_PER_BLOCK) -> ScanResult:
+    """Scan any section source: an object with ``info`` (SectionInfo), ``layout`` (TraceLayout),
+    ``n_panels`` and ``blocks(inlines_per_block)`` yielding :class:`~pitfalls.model.Block` in order."""
+    velocity = VelocityModel.from_rules(rules) if velocity is None else velocity
+    info = source.info
+    placed = place_picks(list(pick_files), info, source.layout)
+    total = source.n_panels
+    seconds = {module.NAME: 0.0 for module in selected}
+    errors: dict[str, str] = {}
+    outcomes: list[PanelOutcome] = []
+    for block in source.blocks(inlines_per_block):
+        outcomes.extend(scan_block(block, placed, selected, rules, velocity, info.geometry, seconds, errors))
+        if progress is not None:
+            progress(len(outcomes), total)
+    per_panel = [list(outcome.findings) for outcome in outcomes]
     findings = merge_inlines(per_panel) if info.geometry == "3d" else per_panel[0]
     runs = tuple(DetectorRun(module.NAME, "failed" if module.NAME in errors else "ran", seconds[module.NAME],
                              errors.get(module.NAME, "")) for module in selected)
-    all_seafloor = np.concatenate(seafloor_times)
-    found_seafloor = all_seafloor[np.isfinite(all_seafloor)]
-    votes = int(np.sign(sum(polarities)))
-    seafloor_summary = SeafloorSummary(
-        source="+".join(sorted(sources)), polarity=votes, n_traces_found=int(found_seafloor.size),
-        twt_ms_median=float(np.median(found_seafloor)) if found_seafloor.size else float("nan"),
-        dominant_frequency_hz=float(np.nanmedian(frequencies)) if np.isfinite(frequencies).any() else float("nan"))
     return ScanResult(
         section=info, pick_files=tuple(pick_files), picks=_summaries(placed), rules_path=rules_path,
         rules_sha256=rules_sha256, detectors=runs, findings=rank_findings(findings, info, rules["ranking"]),
-        seafloor=seafloor_summary)
+        seafloor=_seafloor_summary(outcomes))
+
+
+def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules: Mapping[str, Any],
+               velocity: VelocityModel, geometry: str, seconds: dict[str, float],
+               errors: dict[str, str]) -> list[PanelOutcome]:
+    """Build each panel's context once and run every selected detector on it.
+
+    ``seconds`` (per detector) and ``errors`` (detector name -> one-line message) are updated; a
+    detector that has failed once is not run again.
+    """
+    outcomes = []
+    for offset, panel in enumerate(block.panels):
+        panel_index = block.first_panel + offset
+        picks = placed.panel(panel_index)
+        context = build_context(panel, picks, rules, velocity)
+        found: list[Finding] = []
+        for module in selected:
+            if module.NAME in errors:
+                continue
+            started = time.perf_counter()
+            try:
+                result = module.detect(panel, context, picks, rules)
+            except Exception as err:  # a failing detector must not stop the others
+                where = f" on {panel.name}" if geometry == "3d" else ""
+                errors[module.NAME] = f"{type(err).__name__}{where}: {' '.join(str(err).split())}"
+                result = []
+            seconds[module.NAME] += time.perf_counter() - started
+            found.extend(result)
+        if geometry == "3d":
+            found = [replace(f, inlines=(panel.inline_number, panel.inline_number), xlines=f.traces, traces=None)
+                     if f.traces is not None else replace(f, inlines=(panel.inline_number, panel.inline_number))
+                     for f in found]
+        seafloor = context.seafloor
+        outcomes.append(PanelOutcome(tuple(found), seafloor.twt_ms, seafloor.polarity, seafloor.source,
+                                     context.dominant_frequency_hz))
+    return outcomes
+
+
+def _seafloor_summary(outcomes: Sequence[PanelOutcome]) -> SeafloorSummary:
+    """The seafloor of the whole scan: every trace's time, the panels' polarity vote, the dominant
+    frequency of the first and the middle panel."""
+    all_seafloor = np.concatenate([outcome.seafloor_twt_ms for outcome in outcomes])
+    found_seafloor = all_seafloor[np.isfinite(all_seafloor)]
+    votes = int(np.sign(sum(outcome.polarity for outcome in outcomes)))
+    middle = len(outcomes) // 2
+    frequencies = [outcomes[index].dominant_frequency_hz for index in sorted({0, middle})]
+    return SeafloorSummary(
+        source="+".join(sorted({outcome.source for outcome in outcomes})), polarity=votes,
+        n_traces_found=int(found_seafloor.size),
+        twt_ms_median=float(np.median(found_seafloor)) if found_seafloor.size else float("nan"),
+        dominant_frequency_hz=float(np.nanmedian(frequencies)) if np.isfinite(frequencies).any() else float("nan"))
 
 
 def _summaries(placed: PlacedPicks) -> tuple[PickSummary, ...]:

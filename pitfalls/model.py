@@ -89,6 +89,24 @@ class Section:
 
 
 @dataclass(frozen=True)
+class Block:
+    """Consecutive panels read together: a 2-D line (one panel), or a run of inlines of a volume.
+
+    The engine reads a section block by block, builds one context per panel and runs the
+    detectors on each panel; blocks are the unit of work handed to worker processes.
+    """
+
+    first_panel: int
+    """Index of the block's first panel in the section (0 for a line, the inline index in a volume)."""
+    panels: tuple[Section, ...]
+    """The panels, in section order; their data may be views into one (n_panels, n_traces, n_samples) array."""
+
+    @property
+    def n_panels(self) -> int:
+        return len(self.panels)
+
+
+@dataclass(frozen=True)
 class Horizon:
     """One picked surface on one panel, aligned trace by trace with the panel."""
 

@@ -73,7 +73,7 @@ def test_merge_keeps_separate_ranges_apart():
 def test_failing_detector_is_reported_and_others_run(volume, rules, monkeypatch):
     path, picks = volume
     broken = types.SimpleNamespace(NAME="broken", FAMILY="pick", KINDS={}, RULE_KEYS={},
-                                   detect=lambda section, picks, rules: 1 / 0)
+                                   detect=lambda block, context, picks, rules: 1 / 0)
     monkeypatch.setattr(detectors, "DETECTORS", (broken,) + detectors.DETECTORS)
     monkeypatch.setitem(detectors.BY_NAME, "broken", broken)
     result = scan(str(path), [str(picks)], *rules, only=["broken", "pick_consistency"])

@@ -1,7 +1,8 @@
 """The detectors, in the fixed order the scan runs them.
 
 Each is a module with ``NAME``, ``FAMILY``, ``KINDS``, ``RULE_KEYS`` and
-``detect(section, picks, rules) -> list[Finding]``. To add one, import it here and add it
+``detect(block, context, picks, rules) -> list[Finding]`` (the panel, its shared
+:class:`~pitfalls.context.Context`, its picks, the rules). To add one, import it here and add it
 to ``DETECTORS``; DEVELOPERS.md walks through the steps.
 """
 from __future__ import annotations

@@ -80,10 +80,11 @@ import numpy as np
 from scipy.ndimage import gaussian_filter1d, label
 from scipy.stats import theilslopes
 
+from pitfalls.context import Context
 from pitfalls.model import Finding, Horizon, Picks, Section
-from pitfalls.physics.dip import DipField, structure_tensor_dip
+from pitfalls.physics.dip import DipField
 from pitfalls.physics.hydrodynamics import hubbert_head_gradient_m_per_km, tilt_angle_deg
-from pitfalls.physics.seafloor import amplitude_at, find_seafloor
+from pitfalls.physics.seafloor import amplitude_at
 from pitfalls.physics.velocity import VelocityModel
 
 NAME = "contacts"
@@ -196,14 +197,14 @@ ADVICE = {
 }
 
 
-def detect(section: Section, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
+def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
     """Judge every picked contact and look for unpicked flat events on one panel."""
+    section = block
     settings = rules[NAME]
-    velocity = VelocityModel.from_rules(rules)
-    seafloor = find_seafloor(section, picks, rules)
-    seafloor_twt_ms = _filled(seafloor.twt_ms, section.t0_ms)
-    field = structure_tensor_dip(section.data, float(settings["gradient_sigma_samples"]),
-                                 float(settings["window_sigma_samples"]))
+    velocity = context.velocity
+    seafloor = context.seafloor
+    seafloor_twt_ms = context.seafloor_filled_twt_ms
+    field = context.dip
     interval_velocity_m_s = _interval_velocity_field(section, seafloor_twt_ms, velocity)
     findings: list[Finding] = []
     for contact in picks.of_kind("contact"):
@@ -236,15 +237,6 @@ def _explained_by_strata(finding: Finding) -> Finding:
               + finding.advice)
     return replace(finding, severity=severity, advice=advice,
                    evidence={**finding.evidence, "explained_by": "contact.conformable"})
-
-
-def _filled(seafloor_twt_ms: np.ndarray, t0_ms: float) -> np.ndarray:
-    """Seafloor time on every trace: gaps interpolated; the first sample's time where none was found."""
-    found = np.isfinite(seafloor_twt_ms)
-    if not found.any():
-        return np.full(seafloor_twt_ms.shape, float(t0_ms))
-    positions = np.arange(seafloor_twt_ms.size)
-    return np.interp(positions, positions[found], seafloor_twt_ms[found])
 
 
 def _interval_velocity_field(section: Section, seafloor_twt_ms: np.ndarray, velocity: VelocityModel) -> np.ndarray:

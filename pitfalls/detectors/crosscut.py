@@ -101,6 +101,7 @@ from typing import Any, Mapping
 import numpy as np
 from scipy.ndimage import map_coordinates, uniform_filter1d
 
+from pitfalls.context import Context
 from pitfalls.model import Finding, Horizon, Picks, Section
 from pitfalls.physics.crosscut import (
     EventSearch,
@@ -118,9 +119,8 @@ from pitfalls.physics.crosscut import (
     water_layer_peg_leg_flags,
     water_layer_peg_leg_share,
 )
-from pitfalls.physics.dip import structure_tensor_dip
 from pitfalls.physics.runs import true_runs
-from pitfalls.physics.seafloor import Seafloor, amplitude_at, find_seafloor
+from pitfalls.physics.seafloor import Seafloor, amplitude_at
 from pitfalls.physics.velocity import VelocityModel
 
 NAME = "crosscut"
@@ -194,18 +194,19 @@ _CROSSES_ADVICE_PHASE = ("The measured dip disagrees with the pick here, but the
                          "its reflection where a stronger event (a multiple or a boundary) crosses it. A quick look is enough.")
 
 
-def detect(section: Section, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
+def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
     """Seafloor-parallel events that cut the strata, and picks that cut the reflections or follow such events."""
+    section = block
     settings = rules[NAME]
-    velocity = VelocityModel.from_rules(rules)
-    seafloor = find_seafloor(section, picks, rules)
+    velocity = context.velocity
+    seafloor = context.seafloor
     if seafloor.n_found < max(3, int(settings["window_traces"])) or seafloor.polarity == 0:
         return []
     search = _search_events(section, seafloor, velocity, settings)
     findings = [_event_finding(event, section, seafloor, velocity, settings) for event in search.events]
     horizons = [horizon for horizon in picks.horizons if horizon.kind == "horizon" and horizon.n_points >= 2]
     if horizons:
-        field = structure_tensor_dip(section.data)
+        field = context.dip
         for horizon in horizons:
             findings.extend(_pick_findings(horizon, section, seafloor, search, field, velocity, settings))
     return findings

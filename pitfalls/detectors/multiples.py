@@ -94,8 +94,8 @@ from typing import Any, Mapping
 
 import numpy as np
 from scipy.ndimage import label
-from scipy.signal import hilbert
 
+from pitfalls.context import Context, SeafloorMultiple
 from pitfalls.model import Finding, Horizon, Picks, Section
 from pitfalls.physics.autocorrelation import periodicity_strength, windowed_autocorrelation
 from pitfalls.physics.multiples import (
@@ -104,15 +104,12 @@ from pitfalls.physics.multiples import (
     peak_amplitude,
     peg_leg_polarity,
     peg_leg_twt_ms,
-    seafloor_dip_angle_deg,
-    seafloor_multiple_band_twt_ms,
     seafloor_multiple_polarity,
     seafloor_reflection_coefficient,
     seafloor_reflection_coefficient_from_peg_leg,
     time_dip_ratio,
 )
 from pitfalls.physics.runs import true_runs
-from pitfalls.physics.seafloor import dominant_frequency_hz, find_seafloor
 
 NAME = "multiples"
 FAMILY = "multiple"
@@ -204,40 +201,39 @@ class _Periodicity:
     window_ms: float
 
 
-def detect(section: Section, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
-    """Findings for picks on predicted multiples and for reverberating windows of the section."""
+def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
+    """Findings for picks on predicted multiples and for reverberating windows of the panel."""
+    section = block
     settings = rules[NAME]
-    seafloor = find_seafloor(section, picks, rules)
+    seafloor = context.seafloor
     if seafloor.n_found < settings["min_run_traces"] or seafloor.polarity == 0:
         return []
-    frequency_hz = dominant_frequency_hz(section, seafloor.twt_ms)
+    frequency_hz = context.dominant_frequency_hz
     if not np.isfinite(frequency_hz) or frequency_hz <= 0:
         return []
     period_ms = 1000.0 / frequency_hz
     tolerance_ms = max(section.dt_ms, settings["tolerance_periods"] * period_ms)
     guard_ms = settings["guard_periods"] * period_ms
-    data = np.nan_to_num(section.data, nan=0.0)
+    data = context.live_data
     snap_ms = float(rules["seafloor"]["snap_ms"])
-    seafloor_amplitude, _ = peak_amplitude(data, section.t0_ms, section.dt_ms, seafloor.twt_ms, snap_ms)
-    seafloor_surface = _Surface("seafloor", seafloor.twt_ms, seafloor_amplitude)
-    water_velocity_m_s = float(rules["velocity"]["water_velocity_m_s"])
-    dip_angle_deg = seafloor_dip_angle_deg(seafloor.twt_ms, section.trace_spacing_m, water_velocity_m_s,
-                                           settings["dip_smoothing_traces"])
+    seafloor_surface = _Surface("seafloor", seafloor.twt_ms, context.seafloor_peak_amplitude)
+    dip_angle_deg = context.seafloor_dip_deg
 
     periodicity = _periodicity(section, data, seafloor.twt_ms, settings, tolerance_ms, guard_ms)
     findings = _periodic_findings(section, periodicity, settings)
 
-    context = dict(section=section, data=data, seafloor=seafloor_surface, settings=settings,
-                   tolerance_ms=tolerance_ms, snap_ms=snap_ms, periodicity=periodicity,
-                   dip_angle_deg=dip_angle_deg)
-    automatic = _automatic_reflectors(section, data, seafloor_surface, settings, tolerance_ms, guard_ms, snap_ms)
+    shared = dict(section=section, data=data, seafloor=seafloor_surface, settings=settings,
+                  tolerance_ms=tolerance_ms, snap_ms=snap_ms, periodicity=periodicity,
+                  dip_angle_deg=dip_angle_deg)
+    automatic = _automatic_reflectors(section, data, context.envelope, seafloor_surface, settings, tolerance_ms,
+                                      guard_ms, snap_ms)
     for horizon in picks.horizons:
         if horizon.kind == "seafloor" or horizon.n_points < settings["min_run_traces"]:
             continue
         others = [_horizon_surface(h, data, section, snap_ms) for h in picks.horizons
                   if h.name != horizon.name and h.kind != "seafloor" and h.n_points > 0]
-        predictions = _predictions(seafloor_surface, dip_angle_deg, others + automatic, settings)
-        findings.extend(_horizon_findings(horizon, predictions, context))
+        predictions = _predictions(seafloor_surface, context.seafloor_multiples, others + automatic, settings)
+        findings.extend(_horizon_findings(horizon, predictions, shared))
     return findings
 
 
@@ -248,13 +244,13 @@ def _horizon_surface(horizon: Horizon, data: np.ndarray, section: Section, snap_
     return _Surface(horizon.name, np.asarray(horizon.twt_ms, dtype=float), amplitude)
 
 
-def _automatic_reflectors(section: Section, data: np.ndarray, seafloor: _Surface, settings: Mapping[str, Any],
-                          tolerance_ms: float, guard_ms: float, snap_ms: float) -> list[_Surface]:
+def _automatic_reflectors(section: Section, data: np.ndarray, envelope: np.ndarray, seafloor: _Surface,
+                          settings: Mapping[str, Any], tolerance_ms: float, guard_ms: float,
+                          snap_ms: float) -> list[_Surface]:
     """The strongest envelope peaks per trace below the seafloor (not on a seafloor multiple)."""
     count = int(settings["auto_reflectors"])
     if count == 0:
         return []
-    envelope = np.abs(hilbert(data, axis=1))
     n_traces, n_samples = data.shape
     twt = section.twt_ms
     seafloor_sample = np.rint(section.sample_of(seafloor.twt_ms))
@@ -299,13 +295,14 @@ def _nearest(candidates: list[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarr
     return choice, columns, lows[choice, columns], highs[choice, columns]
 
 
-def _predictions(seafloor: _Surface, dip_angle_deg: np.ndarray, surfaces: list[_Surface],
+def _predictions(seafloor: _Surface, seafloor_multiples: tuple[SeafloorMultiple, ...], surfaces: list[_Surface],
                  settings: Mapping[str, Any]) -> list[tuple[str, int, list]]:
     """Candidate sets ``(kind, multiplier, [(low, high, generator time, amplitude, name, polarity), ...])``."""
     sets = []
     ones = np.ones_like(seafloor.twt_ms)
-    for multiplier in range(2, int(settings["highest_multiplier"]) + 1):
-        low, high = seafloor_multiple_band_twt_ms(seafloor.twt_ms, dip_angle_deg, multiplier)
+    for predicted in seafloor_multiples:
+        multiplier = predicted.multiplier
+        low, high = predicted.low_twt_ms, predicted.high_twt_ms
         polarity = seafloor_multiple_polarity(multiplier) * ones
         sets.append(("seafloor", multiplier, [(low, high, seafloor.twt_ms, seafloor.amplitude, "seafloor", polarity, None)]))
     for round_trips in range(1, int(settings["peg_leg_round_trips"]) + 1):
@@ -334,12 +331,12 @@ def _predictions(seafloor: _Surface, dip_angle_deg: np.ndarray, surfaces: list[_
 
 # --- runs of a pick on a prediction -------------------------------------------------------------
 
-def _horizon_findings(horizon: Horizon, candidate_sets, context) -> list[Finding]:
-    settings = context["settings"]
-    tolerance_ms = context["tolerance_ms"]
+def _horizon_findings(horizon: Horizon, candidate_sets, shared) -> list[Finding]:
+    settings = shared["settings"]
+    tolerance_ms = shared["tolerance_ms"]
     pick = np.asarray(horizon.twt_ms, dtype=float)
-    section = context["section"]
-    pick_amplitude, _ = peak_amplitude(context["data"], section.t0_ms, section.dt_ms, pick, context["snap_ms"])
+    section = shared["section"]
+    pick_amplitude, _ = peak_amplitude(shared["data"], section.t0_ms, section.dt_ms, pick, shared["snap_ms"])
     proposals = []
     for kind, multiplier, members in candidate_sets:
         choice, columns, low, high = _nearest(members, pick)
@@ -358,7 +355,7 @@ def _horizon_findings(horizon: Horizon, candidate_sets, context) -> list[Finding
             upper_names = [members[c][6] for c in chosen]
             proposals.append(_measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low[matched],
                                       high[matched], misfit[matched], generator_twt, generator_amplitude,
-                                      expected, names, upper_names, context))
+                                      expected, names, upper_names, shared))
     # strongest first; at equal severity a seafloor multiple explains a run more simply than a
     # peg-leg of another pick that is itself a multiple, and a peg-leg more simply than an interbed
     proposals.sort(key=lambda f: (SEVERITY_ORDER[f.severity], KIND_PREFERENCE[f.id.split(".")[1]], f.confidence),
@@ -373,10 +370,10 @@ def _horizon_findings(horizon: Horizon, candidate_sets, context) -> list[Finding
 
 
 def _measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low, high, misfit, generator_twt,
-             generator_amplitude, expected, names, upper_names, context) -> Finding:
-    settings = context["settings"]
-    tolerance_ms = context["tolerance_ms"]
-    seafloor: _Surface = context["seafloor"]
+             generator_amplitude, expected, names, upper_names, shared) -> Finding:
+    settings = shared["settings"]
+    tolerance_ms = shared["tolerance_ms"]
+    seafloor: _Surface = shared["seafloor"]
     pick_run = pick[matched]
     seafloor_run = seafloor.twt_ms[matched]
     centre = 0.5 * (low + high)
@@ -392,7 +389,7 @@ def _measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low, high
     if kind == "seafloor":
         evidence["time_multiplier"] = int(multiplier)
         evidence["multiple_order"] = int(multiplier - 1)
-        evidence["seafloor_dip_deg_median"] = float(np.nanmedian(context["dip_angle_deg"][matched]))
+        evidence["seafloor_dip_deg_median"] = float(np.nanmedian(shared["dip_angle_deg"][matched]))
         dip_base, dip_reference, expected_dip = np.zeros_like(pick_run), seafloor_run, float(multiplier)
     elif kind == "peg-leg":
         evidence["round_trips"] = int(multiplier)
@@ -406,7 +403,7 @@ def _measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low, high
     # dip ratio: Theil-Sen slope of (pick - base) on the reference time over the run
     reference_relief = np.nanpercentile(dip_reference, 95) - np.nanpercentile(dip_reference, 5)
     contradictions = []
-    if reference_relief >= max(settings["min_relief_ms"], 2 * context["section"].dt_ms):
+    if reference_relief >= max(settings["min_relief_ms"], 2 * shared["section"].dt_ms):
         dip_ratio = time_dip_ratio(pick_run - dip_base, dip_reference)
     else:
         dip_ratio = float("nan")
@@ -471,7 +468,7 @@ def _measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low, high
     elif ratio.size:
         evidence["amplitude_ratio"] = float(np.median(ratio))
 
-    strength = _strength_at(context["periodicity"], matched, pick_run)
+    strength = _strength_at(shared["periodicity"], matched, pick_run)
     if np.isfinite(strength):
         evidence["periodicity_strength"] = float(strength)
         f_periodic = min(1.0, strength / settings["periodicity_threshold"]) if settings["periodicity_threshold"] > 0 else 1.0

@@ -37,9 +37,10 @@ from typing import Any, Mapping
 import numpy as np
 from scipy.ndimage import median_filter
 
+from pitfalls.context import Context
 from pitfalls.model import Finding, Horizon, Picks, Section
 from pitfalls.physics.runs import true_runs
-from pitfalls.physics.seafloor import amplitude_at, dominant_frequency_hz, find_seafloor, majority_sign
+from pitfalls.physics.seafloor import amplitude_at, majority_sign
 
 NAME = "pick_consistency"
 FAMILY = "pick"
@@ -68,11 +69,11 @@ RULE_KEYS = {
 }
 
 
-def detect(section: Section, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
+def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
     """Cycle skips and polarity flips on every picked horizon of one panel."""
+    section = block
     settings = rules[NAME]
-    seafloor = find_seafloor(section, picks, rules)
-    frequency_hz = dominant_frequency_hz(section, seafloor.twt_ms)
+    frequency_hz = context.dominant_frequency_hz
     findings: list[Finding] = []
     for horizon in picks.horizons:
         if horizon.n_points < 3:

@@ -23,7 +23,7 @@ import numpy as np
 import segyio
 
 from pitfalls.errors import PitfallsInputError
-from pitfalls.model import Section, SectionInfo
+from pitfalls.model import Block, Section, SectionInfo
 
 DEFAULT_INLINE_BYTE = 189  # SEG-Y rev 1 INLINE_3D
 DEFAULT_XLINE_BYTE = 193   # SEG-Y rev 1 CROSSLINE_3D
@@ -209,28 +209,45 @@ class SeismicFile:
         return float(np.median(distance)), True
 
     # --- reading ------------------------------------------------------------------------
+    @property
+    def n_panels(self) -> int:
+        """Panels the section has: 1 for a line, one per inline for a volume."""
+        return 1 if self.layout.geometry == "2d" else len(self.layout.inline_numbers)
+
     def panels(self) -> Iterator[Section]:
         """One panel for a 2-D line; one per inline, in inline order, for a 3-D volume."""
+        for block in self.blocks(1):
+            yield from block.panels
+
+    def blocks(self, inlines_per_block: int = 16) -> Iterator[Block]:
+        """The section in blocks: a 2-D line is one block; a volume comes ``inlines_per_block`` inlines at a time."""
+        step = max(1, int(inlines_per_block))
+        for first in range(0, self.n_panels, step):
+            yield self.read_block(first, min(self.n_panels, first + step))
+
+    def read_block(self, first_panel: int, stop_panel: int) -> Block:
+        """Panels ``first_panel`` up to (not including) ``stop_panel``, read in one pass over their traces."""
         info = self.info
         if self.layout.geometry == "2d":
-            yield Section(data=self._read_traces(np.arange(info.n_traces)), dt_ms=info.dt_ms, t0_ms=info.t0_ms,
-                          trace_spacing_m=info.trace_spacing_m, trace_numbers=self.layout.trace_numbers,
-                          name=os.path.basename(self.path))
-            return
-        for inline_index, inline_number in enumerate(self.layout.inline_numbers):
-            yield self.inline_panel(inline_index)
+            panel = Section(data=self._read_traces(np.arange(info.n_traces)), dt_ms=info.dt_ms, t0_ms=info.t0_ms,
+                            trace_spacing_m=info.trace_spacing_m, trace_numbers=self.layout.trace_numbers,
+                            name=os.path.basename(self.path))
+            return Block(0, (panel,))
+        rows = self.layout.grid[first_panel:stop_panel]
+        data = np.full(rows.shape + (info.n_samples,), np.nan, dtype=np.float32)
+        present = rows >= 0
+        data[present] = self._read_traces(rows[present])
+        panels = []
+        for offset, inline_index in enumerate(range(first_panel, stop_panel)):
+            inline_number = int(self.layout.inline_numbers[inline_index])
+            panels.append(Section(data=data[offset], dt_ms=info.dt_ms, t0_ms=info.t0_ms,
+                                  trace_spacing_m=info.trace_spacing_m, trace_numbers=self.layout.xline_numbers,
+                                  inline_number=inline_number, name=f"inline {inline_number}"))
+        return Block(first_panel, tuple(panels))
 
     def inline_panel(self, inline_index: int) -> Section:
         """The panel of one inline of a 3-D volume, NaN where a trace is missing."""
-        info = self.info
-        row = self.layout.grid[inline_index]
-        data = np.full((len(row), info.n_samples), np.nan, dtype=np.float32)
-        present = row >= 0
-        data[present] = self._read_traces(row[present])
-        inline_number = int(self.layout.inline_numbers[inline_index])
-        return Section(data=data, dt_ms=info.dt_ms, t0_ms=info.t0_ms, trace_spacing_m=info.trace_spacing_m,
-                       trace_numbers=self.layout.xline_numbers, inline_number=inline_number,
-                       name=f"inline {inline_number}")
+        return self.read_block(inline_index, inline_index + 1).panels[0]
 
     def _read_traces(self, indices: np.ndarray) -> np.ndarray:
         handle = self._file

@@ -16,6 +16,7 @@ import numpy as np
 import pytest
 import yaml
 
+from detecting import run_detector
 from pitfalls.detectors import contacts
 from pitfalls.model import Horizon, Picks, Section
 from pitfalls.modelling.earth import EarthModel, Overprint, Unit
@@ -100,7 +101,7 @@ def only(findings, finding_id):
 def test_genuine_flat_contact_gives_nothing_above_low():
     """A gas contact flat in depth, cutting the fold, of the seafloor's sign, inside the closure."""
     model = modelled("clean")
-    findings = contacts.detect(model.section, interpreted(model), load_rules())
+    findings = run_detector(contacts, model.section, interpreted(model), load_rules())
     assert ids(findings, ("high", "medium")) == set()
     assert ids(findings) <= {"contact.unpicked-flat-event"}
 
@@ -108,14 +109,14 @@ def test_genuine_flat_contact_gives_nothing_above_low():
 def test_polarity_is_judged_against_the_seafloor():
     """The whole section flipped (the other display convention) leaves the genuine contact clean."""
     model = modelled("clean", polarity=-1)
-    findings = contacts.detect(model.section, interpreted(model), load_rules())
+    findings = run_detector(contacts, model.section, interpreted(model), load_rules())
     assert "contact.polarity" not in ids(findings)
 
 
 def test_clean_folded_section_has_no_flat_event():
     """No fluid, no multiple in the record, no picks: nothing cuts the strata, so nothing is reported."""
     model = modelled("no-gas", n_samples=500, multiples=False)
-    assert contacts.detect(model.section, Picks(), load_rules()) == []
+    assert run_detector(contacts, model.section, Picks(), load_rules()) == []
 
 
 # --- faulty cases ---------------------------------------------------------------------------------
@@ -127,7 +128,7 @@ def test_contact_picked_on_a_dipping_reflector_is_conformable():
     pick = np.full(N_TRACES, np.nan)
     flank = slice(30, 100)
     pick[flank] = model.surface_twt_ms["bed1"][flank]
-    findings = contacts.detect(model.section, interpreted(model, pick), load_rules())
+    findings = run_detector(contacts, model.section, interpreted(model, pick), load_rules())
     finding = only(findings, "contact.conformable")
     assert finding.severity == "high"
     assert finding.traces == (31, 100)
@@ -146,7 +147,7 @@ def test_flat_contact_under_a_canyon_is_an_overburden_tilt():
     """Flat in depth under a 200 m canyon: the time tilt follows delta_t = delta_t_sf (1 - v_w/v_s)
     = 0.25 delta_t_sf (REFERENCES item 6b, slope accepted within 0.1); not contact.tilted."""
     model = modelled("canyon")
-    findings = contacts.detect(model.section, interpreted(model), load_rules())
+    findings = run_detector(contacts, model.section, interpreted(model), load_rules())
     assert "contact.tilted" not in ids(findings)
     finding = only(findings, "contact.overburden-tilt")
     factor = 1.0 - WATER_VELOCITY_M_S / SEDIMENT_VELOCITY_M_S
@@ -160,7 +161,7 @@ def test_reversed_contact_is_a_polarity_finding():
     """A contact that is an impedance decrease (faster fluid above) reflects against the seafloor's sign."""
     model = modelled("impedance-decrease")
     assert np.nanmedian(model.reflection_coefficient["gwc"]) < 0 < np.median(model.seafloor_reflection_coefficient)
-    finding = only(contacts.detect(model.section, interpreted(model), load_rules()), "contact.polarity")
+    finding = only(run_detector(contacts, model.section, interpreted(model), load_rules()), "contact.polarity")
     assert finding.evidence["reversed_fraction"] >= 0.9
     assert finding.severity == "high"
 
@@ -169,7 +170,7 @@ def test_contact_below_the_spill_point_is_outside_the_closure():
     """A 40 m fold whose shallower end (trace index 299) spills at 1100 + 40 (1 - 2^-(149/60)^2) m,
     with the contact at 1170 m: below the spill point everywhere."""
     model = modelled("low-relief")
-    finding = only(contacts.detect(model.section, interpreted(model), load_rules()), "contact.outside-closure")
+    finding = only(run_detector(contacts, model.section, interpreted(model), load_rules()), "contact.outside-closure")
     assert finding.severity == "high"
     assert finding.evidence["spill_point_trace"] == 300
     assert finding.evidence["spill_point_twt_ms"] == pytest.approx(model.surface_twt_ms["reservoir"][299], abs=1e-9)
@@ -184,7 +185,7 @@ def test_tilted_contact_reports_the_hubbert_gradient():
     Hubbert (1953) dh/dx = (rho_w - rho_h) / rho_w dz/dx with the rules' densities (REFERENCES 6a)."""
     rules = load_rules()
     model = modelled("tilted")
-    findings = contacts.detect(model.section, interpreted(model), rules)
+    findings = run_detector(contacts, model.section, interpreted(model), rules)
     finding = only(findings, "contact.tilted")
     tilt = finding.evidence["depth_tilt_m_per_km"]
     assert tilt == pytest.approx(24.0, abs=3.0)
@@ -201,7 +202,7 @@ def test_tilted_contact_reports_the_hubbert_gradient():
 def test_unpicked_flat_spot_is_found():
     """The same gas contact left unpicked: a flat event cutting the fold at the contact's time."""
     model = modelled("clean")
-    findings = contacts.detect(model.section, Picks(), load_rules())
+    findings = run_detector(contacts, model.section, Picks(), load_rules())
     finding = only(findings, "contact.unpicked-flat-event")
     contact_twt_ms = model.surface_twt_ms["gwc"]
     assert finding.twt_ms[0] <= np.nanmax(contact_twt_ms) and finding.twt_ms[1] >= np.nanmin(contact_twt_ms)
@@ -213,7 +214,7 @@ def test_flat_seafloor_multiple_is_named_as_such():
     """With the record running past 2 t_sf = 1600 ms, the flat first seafloor multiple (REFERENCES
     item 1) cuts the fold and is reported with near_seafloor_multiple."""
     model = modelled("no-gas", n_samples=500)
-    findings = contacts.detect(model.section, Picks(), load_rules())
+    findings = run_detector(contacts, model.section, Picks(), load_rules())
     finding = only(findings, "contact.unpicked-flat-event")
     assert finding.evidence["twt_ms_median"] == pytest.approx(1600.0, abs=16.0)
     assert finding.evidence["near_seafloor_multiple"] is True
@@ -229,7 +230,7 @@ def test_inputs_are_not_changed_and_ids_are_declared():
     data_before = model.section.data.copy()
     picks_before = [h.twt_ms.copy() for h in picks.horizons]
     rules_before = yaml.safe_dump(rules)
-    findings = contacts.detect(model.section, picks, rules)
+    findings = run_detector(contacts, model.section, picks, rules)
     np.testing.assert_array_equal(model.section.data, data_before)
     for horizon, before in zip(picks.horizons, picks_before):
         np.testing.assert_array_equal(horizon.twt_ms, before)
@@ -263,7 +264,7 @@ def test_real_line_regression():
     section = Section(data=data, dt_ms=4.0, t0_ms=0.0, trace_spacing_m=12.5,
                       trace_numbers=np.arange(1, data.shape[0] + 1), name="real line")
     rules = yaml.safe_load((ROOT / "rules" / "default.yaml").read_text())
-    findings = contacts.detect(section, Picks(), rules)
+    findings = run_detector(contacts, section, Picks(), rules)
     flat_events = [f for f in findings if f.id == "contact.unpicked-flat-event"]
     assert len(flat_events) == 0  # regression value: 0 unpicked flat events on this line
     assert findings == []

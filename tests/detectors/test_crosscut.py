@@ -15,6 +15,7 @@ import numpy as np
 import pytest
 import yaml
 
+from detecting import run_detector
 from pitfalls.detectors import crosscut
 from pitfalls.model import Horizon, Picks, Section
 from pitfalls.modelling.demo import build_demo_model
@@ -125,7 +126,7 @@ def test_hydrate_base_across_dipping_beds(rules):
     within the project tolerance (at least 50 ms or 20 %) and the gradient that puts the base at the
     event is within 15 % of the 40 C/km used to build it (REFERENCES item 4: model spread +/- 15 %)."""
     model = modelled("hydrate")
-    findings = crosscut.detect(model.section, Picks(), rules)
+    findings = run_detector(crosscut, model.section, Picks(), rules)
     assert ids(findings) == ["crosscut.hydrate-like"]
     (finding,) = findings
     true_below_ms = model.surface_twt_ms["hydrate base"] - model.seafloor_twt_ms
@@ -156,7 +157,7 @@ def test_diagenetic_front_gets_the_other_class(rules):
     """A front that raises velocity below it keeps the seafloor's polarity: diagenetic-like, with the
     temperature at its depth reported (Tsf + G z)."""
     model = modelled("diagenetic")
-    findings = crosscut.detect(model.section, Picks(), rules)
+    findings = run_detector(crosscut, model.section, Picks(), rules)
     assert ids(findings) == ["crosscut.diagenetic-like"]
     evidence = findings[0].evidence
     true_below_ms = model.surface_twt_ms["opal front"] - model.seafloor_twt_ms
@@ -173,7 +174,7 @@ def test_pick_that_jumps_onto_the_boundary(rules):
     model = modelled("hydrate")
     bed_ms, jumping_ms, crossing = crossing_pick(model, "hydrate base")
     picks = Picks((Horizon("Jumper", "horizon", jumping_ms), Horizon("Faithful", "horizon", bed_ms)))
-    findings = crosscut.detect(model.section, picks, rules)
+    findings = run_detector(crosscut, model.section, picks, rules)
     jumper = [finding for finding in findings if finding.horizon == "Jumper"]
     assert [finding.id for finding in jumper] == ["crosscut.pick-follows-boundary"]
     assert jumper[0].severity == "high"
@@ -188,7 +189,7 @@ def test_pick_across_beds_without_a_boundary(rules):
     pick.crosses-reflections over most of the line, by about the 6 deg the beds dip against it."""
     model = modelled(None)
     picks = Picks((Horizon("Flat", "horizon", model.seafloor_twt_ms + 300.0),))
-    findings = crosscut.detect(model.section, picks, rules)
+    findings = run_detector(crosscut, model.section, picks, rules)
     assert set(ids(findings)) == {"pick.crosses-reflections"}
     longest = max(findings, key=lambda finding: finding.traces[1] - finding.traces[0])
     assert longest.traces[1] - longest.traces[0] + 1 >= 0.7 * N_TRACES
@@ -203,12 +204,12 @@ def test_beds_parallel_to_the_seafloor_give_nothing(rules, overprint):
     """Beds that parallel the seafloor are not cut by a seafloor-parallel boundary: no crosscut finding,
     with or without the hydrate base."""
     model = modelled(overprint, beds_parallel=True)
-    assert crosscut.detect(model.section, Picks(), rules) == []
+    assert run_detector(crosscut, model.section, Picks(), rules) == []
 
 
 def test_dipping_beds_alone_give_nothing(rules):
     """Dipping beds with their seafloor multiple and no overprint: nothing."""
-    assert crosscut.detect(modelled(None).section, Picks(), rules) == []
+    assert run_detector(crosscut, modelled(None).section, Picks(), rules) == []
 
 
 def test_inputs_are_not_changed(rules):
@@ -217,10 +218,10 @@ def test_inputs_are_not_changed(rules):
     rules_before = yaml.safe_dump(rules)
     bed_ms, jumping_ms, _ = crossing_pick(model, "hydrate base")
     picks = Picks((Horizon("Jumper", "horizon", jumping_ms),))
-    first = crosscut.detect(model.section, picks, rules)
+    first = run_detector(crosscut, model.section, picks, rules)
     assert np.array_equal(model.section.data, before)
     assert yaml.safe_dump(rules) == rules_before
-    assert crosscut.detect(model.section, picks, rules) == first
+    assert run_detector(crosscut, model.section, picks, rules) == first
 
 
 # --- property: polarity ------------------------------------------------------------------
@@ -236,8 +237,8 @@ def test_global_polarity_changes_no_class(rules, overprint, flip):
         flipped = dataclasses.replace(model.section, data=-model.section.data)
     else:
         flipped = modelled(overprint, polarity=-1).section
-    original = crosscut.detect(model.section, picks, rules)
-    reversed_ = crosscut.detect(flipped, picks, rules)
+    original = run_detector(crosscut, model.section, picks, rules)
+    reversed_ = run_detector(crosscut, flipped, picks, rules)
     assert original, "the case must give findings for the property to mean anything"
     assert [(f.id, f.traces) for f in reversed_] == [(f.id, f.traces) for f in original]
 
@@ -265,7 +266,7 @@ def test_seafloor_multiple_and_peg_leg_are_not_boundaries(rules):
     temperature (REFERENCES item 1). The peg-leg, measured in the seafloor-parallel stack, has a parent
     of the opposite sign and more strength one seafloor time above on most traces; the base has none."""
     model = shallow_water_hydrate_model()
-    findings = crosscut.detect(model.section, Picks(), rules)
+    findings = run_detector(crosscut, model.section, Picks(), rules)
     assert ids(findings) == ["crosscut.hydrate-like"]
     true_below_ms = model.surface_twt_ms["hydrate base"] - model.seafloor_twt_ms
     assert findings[0].evidence["twt_below_seafloor_ms_median"] == pytest.approx(np.median(true_below_ms),
@@ -289,7 +290,7 @@ def demo():
     """The demo line, its picks, its truth file and the detector's findings with the default rules."""
     modelled, picks = build_demo_model()
     truth = json.loads(DEMO_TRUTH.read_text(encoding="utf-8"))
-    return modelled, picks, truth, crosscut.detect(modelled.section, picks, default_rules())
+    return modelled, picks, truth, run_detector(crosscut, modelled.section, picks, default_rules())
 
 
 def test_demo_pick_on_the_hydrate_base_is_high(demo):
@@ -380,7 +381,7 @@ def test_real_shelf_line_regression():
                       trace_numbers=np.arange(1, data.shape[0] + 1), name="real crossline")
     rules = default_rules()
     assert np.isnan(predicted_stability_base_twt_ms(220.0, VelocityModel.from_rules(rules), 4.0, 40.0))
-    assert crosscut.detect(section, Picks(), rules) == []
+    assert run_detector(crosscut, section, Picks(), rules) == []
 
 
 def crosscut_rule(key: str) -> float:

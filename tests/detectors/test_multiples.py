@@ -14,6 +14,7 @@ import numpy as np
 import pytest
 import yaml
 
+from detecting import run_detector
 from pitfalls.detectors import multiples
 from pitfalls.model import Horizon, Picks, Section
 from pitfalls.modelling.earth import EarthModel, Unit
@@ -74,7 +75,7 @@ def above_low(findings):
 def test_correct_picks_on_a_line_with_multiples_are_not_flagged(line):
     """Correct primaries, including U3 crossing the first multiple at a low angle over ~60 traces,
     give no pick finding above low; the crossing is at most a low note with its drift named."""
-    findings = multiples.detect(line.section, Picks(correct_picks(line)), load_rules())
+    findings = run_detector(multiples, line.section, Picks(correct_picks(line)), load_rules())
     assert above_low([f for f in findings if f.horizon is not None]) == []
     crossing = by_horizon(findings, "U3")
     for finding in crossing:
@@ -84,7 +85,7 @@ def test_correct_picks_on_a_line_with_multiples_are_not_flagged(line):
 
 def test_primaries_only_line_gives_nothing_above_low_and_no_periodicity(primaries_only):
     """model_section(..., multiples=False): no multiple.periodic and nothing above low."""
-    findings = multiples.detect(primaries_only.section, Picks(correct_picks(primaries_only)), load_rules())
+    findings = run_detector(multiples, primaries_only.section, Picks(correct_picks(primaries_only)), load_rules())
     assert [f for f in findings if f.id == "multiple.periodic"] == []
     assert above_low(findings) == []
 
@@ -92,7 +93,7 @@ def test_primaries_only_line_gives_nothing_above_low_and_no_periodicity(primarie
 def test_line_with_multiples_reverberates(line):
     """The same line with multiples is periodic at the seafloor period: the peak lag is within one
     tolerance of the median seafloor time (620 ms) and the strength is near R_sf (Backus 1959)."""
-    findings = multiples.detect(line.section, Picks(), load_rules())
+    findings = run_detector(multiples, line.section, Picks(), load_rules())
     periodic = [f for f in findings if f.id == "multiple.periodic"]
     assert len(periodic) == 1
     evidence = periodic[0].evidence
@@ -107,7 +108,7 @@ def test_pick_on_the_first_seafloor_multiple(line):
     """A pick on 2 t_sf: multiple.seafloor, high, dip ratio 2 within 10 %, reversed polarity
     (REFERENCES.md item 1), and the seafloor R implied within 0.02 of the model's (item 2)."""
     picks = Picks(correct_picks(line) + (Horizon("M1", "horizon", 2 * line.seafloor_twt_ms),))
-    findings = by_horizon(multiples.detect(line.section, picks, load_rules()), "M1")
+    findings = by_horizon(run_detector(multiples, line.section, picks, load_rules()), "M1")
     assert [f.id for f in findings] == ["multiple.seafloor"]
     finding = findings[0]
     assert finding.severity == "high" and finding.confidence >= 0.9
@@ -125,7 +126,7 @@ def test_pick_on_the_first_seafloor_multiple(line):
 def test_pick_on_the_second_seafloor_multiple(line):
     """A pick on 3 t_sf: multiple.seafloor with dip ratio 3 within 10 % and the primary's polarity."""
     picks = Picks(correct_picks(line) + (Horizon("M2", "horizon", 3 * line.seafloor_twt_ms),))
-    findings = by_horizon(multiples.detect(line.section, picks, load_rules()), "M2")
+    findings = by_horizon(run_detector(multiples, line.section, picks, load_rules()), "M2")
     assert [f.id for f in findings] == ["multiple.seafloor"]
     evidence = findings[0].evidence
     assert evidence["time_multiplier"] == 3
@@ -137,7 +138,7 @@ def test_peg_leg_of_a_picked_horizon(line):
     """A pick on t_U2 + t_sf: multiple.peg-leg of U2, one round trip, reversed (-2 R A, item 1)."""
     peg_leg = line.surface_twt_ms["U2"] + line.seafloor_twt_ms
     picks = Picks(correct_picks(line) + (Horizon("P1", "horizon", peg_leg),))
-    findings = by_horizon(multiples.detect(line.section, picks, load_rules()), "P1")
+    findings = by_horizon(run_detector(multiples, line.section, picks, load_rules()), "P1")
     assert [f.id for f in findings] == ["multiple.peg-leg"]
     evidence = findings[0].evidence
     assert findings[0].severity == "high"
@@ -152,7 +153,7 @@ def test_peg_leg_of_an_unpicked_reflector(line):
     """Without U2 picked, its peg-leg is still found through the automatic strong reflectors."""
     peg_leg = line.surface_twt_ms["U2"] + line.seafloor_twt_ms
     picks = Picks((Horizon("P1", "horizon", peg_leg),))
-    findings = by_horizon(multiples.detect(line.section, picks, load_rules()), "P1")
+    findings = by_horizon(run_detector(multiples, line.section, picks, load_rules()), "P1")
     assert [f.id for f in findings] == ["multiple.peg-leg"]
     assert findings[0].evidence["generator"].startswith("automatic reflector")
     assert findings[0].severity in ("medium", "high")
@@ -164,7 +165,7 @@ def test_horizon_that_hops_onto_the_multiple(line):
     hop = line.surface_twt_ms["U3"].copy()
     hop[150:] = 2 * line.seafloor_twt_ms[150:]
     picks = Picks((Horizon("U2", "horizon", line.surface_twt_ms["U2"]), Horizon("U3", "horizon", hop)))
-    findings = [f for f in by_horizon(multiples.detect(line.section, picks, load_rules()), "U3")
+    findings = [f for f in by_horizon(run_detector(multiples, line.section, picks, load_rules()), "U3")
                 if f.severity == "high"]
     assert [f.id for f in findings] == ["multiple.seafloor"]
     first, last = findings[0].traces
@@ -177,10 +178,10 @@ def test_interbed_prediction_only_with_its_switch(line):
     interbed = 2 * line.surface_twt_ms["U3"] - line.surface_twt_ms["U2"]
     picks = Picks(correct_picks(line) + (Horizon("I1", "horizon", interbed),))
     rules = load_rules()
-    assert [f for f in by_horizon(multiples.detect(line.section, picks, rules), "I1")
+    assert [f for f in by_horizon(run_detector(multiples, line.section, picks, rules), "I1")
             if f.id == "multiple.interbed"] == []
     rules["multiples"]["interbed"] = True
-    found = [f for f in by_horizon(multiples.detect(line.section, picks, rules), "I1") if f.id == "multiple.interbed"]
+    found = [f for f in by_horizon(run_detector(multiples, line.section, picks, rules), "I1") if f.id == "multiple.interbed"]
     assert len(found) == 1
     assert {found[0].evidence["generator_upper"], found[0].evidence["generator_lower"]} == {"U2", "U3"}
 
@@ -189,7 +190,7 @@ def test_polarity_is_judged_relative_to_the_seafloor():
     """The same line displayed with reversed polarity gives the same findings and relative signs."""
     flipped = model_section(clean_earth(), n_samples=1000, polarity=-1)
     picks = Picks((Horizon("M1", "horizon", 2 * flipped.seafloor_twt_ms),))
-    findings = by_horizon(multiples.detect(flipped.section, picks, load_rules()), "M1")
+    findings = by_horizon(run_detector(multiples, flipped.section, picks, load_rules()), "M1")
     assert [f.id for f in findings] == ["multiple.seafloor"]
     assert findings[0].evidence["polarity_vs_primary"] == -1
     assert findings[0].evidence["polarity_vs_seafloor"] == -1
@@ -202,7 +203,7 @@ def test_inputs_are_not_changed(line):
     pick = 2 * line.seafloor_twt_ms
     picks = Picks((Horizon("M1", "horizon", pick.copy()),))
     data_before = line.section.data.copy()
-    multiples.detect(line.section, picks, rules)
+    run_detector(multiples, line.section, picks, rules)
     assert rules == before_rules
     np.testing.assert_array_equal(line.section.data, data_before)
     np.testing.assert_array_equal(picks.horizons[0].twt_ms, pick)
@@ -243,9 +244,9 @@ def test_real_line_negative_control():
     rules = load_rules()
     seafloor = find_seafloor(section, Picks(), rules)
     assert seafloor.n_found == pytest.approx(534, abs=5)  # README: traces 68-601
-    assert multiples.detect(section, Picks(), rules) == []
+    assert run_detector(multiples, section, Picks(), rules) == []
     pick = Horizon("on 2 x seafloor", "horizon", 2 * seafloor.twt_ms)
-    flagged = [f for f in multiples.detect(section, Picks((pick,)), rules) if f.horizon == pick.name]
+    flagged = [f for f in run_detector(multiples, section, Picks((pick,)), rules) if f.horizon == pick.name]
     assert [f.id for f in flagged] == ["multiple.seafloor"]
     evidence = flagged[0].evidence
     # Seen: traces 68-601 (all traces with a seafloor), high, confidence 0.894; reversed majority

@@ -9,6 +9,7 @@ import numpy as np
 import pytest
 import yaml
 
+from detecting import run_detector
 from pitfalls.detectors import pick_consistency
 from pitfalls.model import Horizon, Picks, Section
 
@@ -36,7 +37,7 @@ def wave_train_section(noise=0.02, seed=3):
 
 
 def run(section, twt_ms, rules):
-    return pick_consistency.detect(section, Picks((Horizon("H1", "horizon", twt_ms),)), rules)
+    return run_detector(pick_consistency, section, Picks((Horizon("H1", "horizon", twt_ms),)), rules)
 
 
 def test_clean_pick_gives_nothing(rules):
