@@ -62,6 +62,17 @@ def build_parser() -> argparse.ArgumentParser:
     scan.add_argument("--only", metavar="DETECTOR,...", help="run only these detectors: " + ", ".join(registry.BY_NAME))
     scan.add_argument("--quiet", action="store_true", help="print no report on stdout (files and exit code only)")
 
+    describe = commands.add_parser("describe", help="measure the character of each interval between the picks and along each pick")
+    describe.add_argument("section", metavar="SECTION", help="post-stack SEG-Y file (2-D line or 3-D volume)")
+    describe.add_argument("--picks", action="append", default=[], required=True, metavar="FILE",
+                          help="pick file (CSV); repeatable; the intervals lie between consecutive horizons")
+    describe.add_argument("--rules", metavar="FILE", help="YAML rules overriding rules/default.yaml")
+    describe.add_argument("--format", choices=("terminal", "json", "markdown"), default="terminal")
+    describe.add_argument("--output", metavar="FILE", help="write the description here instead of stdout")
+    describe.add_argument("--iline-byte", type=int, metavar="N", help="trace-header byte of the inline number (default 189)")
+    describe.add_argument("--xline-byte", type=int, metavar="N", help="trace-header byte of the crossline number (default 193)")
+    describe.add_argument("--2d", dest="force_2d", action="store_true", help="read the file as a 2-D line in trace order")
+
     demo = commands.add_parser("demo", help="write the bundled demo scenario, then scan it")
     demo.add_argument("--out", metavar="DIR", default="pitfalls-demo", help="folder for the demo files (default ./pitfalls-demo)")
 
@@ -163,6 +174,35 @@ def _emit(result, fmt: str, output: str | None, quiet: bool, stdout: Console) ->
         sys.stdout.flush()
 
 
+def _describe(args: argparse.Namespace, stdout: Console) -> int:
+    from pitfalls.describe import describe_file
+    from pitfalls.report import description as report
+    if args.force_2d and (args.iline_byte or args.xline_byte):
+        raise PitfallsInputError("command line", "", "--2d cannot be combined with --iline-byte/--xline-byte",
+                                 "use --2d for a line, or the byte options for a 3-D volume")
+    rules, _, _ = _load_rules(args.rules)
+    if args.output and os.path.abspath(args.output) in {os.path.abspath(p) for p in [args.section, *args.picks]}:
+        raise PitfallsInputError(args.output, "", "is one of the input files", "write the output somewhere else; inputs are never changed")
+    description = describe_file(args.section, args.picks, rules, args.iline_byte or 189, args.xline_byte or 193,
+                                args.force_2d)
+    if args.format == "json":
+        text = json.dumps(report.description_dict(description), indent=2) + "\n"
+    elif args.format == "markdown":
+        text = report.render_markdown(description)
+    else:
+        buffer = io.StringIO()
+        Console(file=buffer, width=120, color_system=None, force_terminal=False).print(report.render_terminal(description))
+        text = buffer.getvalue()
+    if args.output:
+        write_atomically(args.output, text)
+    elif args.format == "terminal":
+        stdout.print(report.render_terminal(description))
+    else:
+        sys.stdout.write(text)
+        sys.stdout.flush()
+    return EXIT_OK
+
+
 def _demo(args: argparse.Namespace, stdout: Console) -> int:
     from pitfalls.engine import scan
     from pitfalls.modelling.demo import write_demo
@@ -221,6 +261,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         args = build_parser().parse_args(argv)
         if args.command == "scan":
             return _scan(args, stdout)
+        if args.command == "describe":
+            return _describe(args, stdout)
         if args.command == "demo":
             return _demo(args, stdout)
         if args.command == "rules":

@@ -9,12 +9,13 @@ from __future__ import annotations
 
 from types import ModuleType
 
-from pitfalls.detectors import contacts, crosscut, multiples, pick_consistency
+from pitfalls.detectors import contacts, crosscut, multiples, overburden, pick_consistency
 
 DETECTORS: tuple[ModuleType, ...] = (
     multiples,
     contacts,
     crosscut,
+    overburden,
     pick_consistency,
 )
 BY_NAME: dict[str, ModuleType] = {module.NAME: module for module in DETECTORS}

@@ -125,7 +125,15 @@ def read_pick_file(path: str) -> PickFile:
         ``header``) and what to fix.
     """
     path = str(path)
-    text = _read_text(path)
+    return parse_pick_text(path, _read_text(path))
+
+
+def parse_pick_text(path: str, text: str) -> PickFile:
+    """Check and parse pick-file text already read, as :func:`read_pick_file` does.
+
+    ``path`` names the source in messages and in :attr:`PickFile.path`; a table of columns
+    given in memory is turned into this text so it passes the same checks as a file.
+    """
     records = _records(path, text)
     header_index = next((i for i, cells in enumerate(records) if not _blank(cells)), None)
     if header_index is None:

@@ -78,6 +78,27 @@ CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
         # Findings their detector rates below this confidence are not reported.
         "min_confidence": (float, 0.0, 1.0),
     },
+    "describe": {
+        # `pitfalls describe` (see pitfalls/describe.py); lengths in dominant periods.
+        "guard_periods": (float, 0.0, 5.0),
+        "termination_guard_periods": (float, 0.0, 10.0),
+        "termination_band_periods": (float, 0.25, 20.0),
+        "min_coherence": (float, 0.0, 1.0),
+        "point_fraction": (float, 0.0, 10.0),
+        "window_traces": (int, 5, 100000),
+        "reflection_free_max_rms": (float, 0.0, 10.0),
+        "chaotic_max_share": (float, 0.0, 1.0),
+        "divergent_min_fan_deg": (float, 0.0, 90.0),
+        "divergent_min_thickening": (float, 0.0, 10.0),
+        "parallel_max_spread_deg": (float, 0.0, 90.0),
+        "thickening_min_fraction": (float, 0.0, 10.0),
+        "concordant_max_deg": (float, 0.0, 90.0),
+        "flat_max_deg": (float, 0.0, 90.0),
+        "toplap_max_ratio": (float, 0.0, 1.0),
+        "pick_window_ms": (float, 8.0, 2000.0),
+        "gradient_sigma_samples": (float, 0.3, 10.0),
+        "window_sigma_samples": (float, 0.5, 30.0),
+    },
 }
 
 _TYPE_WORDS = {float: "a number", int: "a whole number", bool: "true or false", str: "text"}
@@ -309,3 +330,55 @@ def _check_combinations(path: str, rules: Mapping[str, Mapping[str, Any]], is_de
     if weights and sum(ranking[name] for name in weights) <= 0.0:
         raise PitfallsInputError(path, "ranking", "all ranking weights are zero, so no finding could be scored",
                                  fix=_default_fix(is_default, "give at least one weight a value above 0"))
+
+
+def load_rules_mapping(overrides: Mapping[str, Any], detector_keys: Mapping[str, Mapping[str, KeySpec]],
+                       label: str = "rules mapping",
+                       defaults_path: str | pathlib.Path | None = None) -> tuple[dict, str, str]:
+    """Defaults merged with overrides given as a nested mapping instead of a file.
+
+    The overrides pass the same checks as a user rules file. A top-level key may also be a
+    dotted ``section.key``. ``label`` stands for the file name in messages and reports; the
+    checksum is the SHA-256 of the checked overrides written as YAML by :func:`render_rules`,
+    so a file holding that text gives the same checksum.
+
+    Raises
+    ------
+    PitfallsInputError
+        Naming ``label`` and the dotted key, as for a rules file.
+    """
+    rules, _, _ = load_rules(None, detector_keys, defaults_path)
+    schema: dict[str, Mapping[str, KeySpec]] = {**CORE_KEYS, **detector_keys}
+    if not isinstance(overrides, Mapping):
+        raise PitfallsInputError(label, "", f"is {_describe(overrides)}, not a mapping of rules sections",
+                                 fix="give a dict such as {'velocity': {'water_velocity_m_s': 1480.0}}, a rules "
+                                     "file path, or None for the defaults")
+    document: dict[str, Any] = {}
+    for name, values in overrides.items():
+        section, dot, key = str(name).partition(".") if isinstance(name, str) else (name, "", "")
+        if dot:
+            target = document.setdefault(section, {})
+            if not isinstance(target, dict):
+                raise PitfallsInputError(label, str(name), f"section '{section}' is given twice, once whole and "
+                                         "once as a dotted key", fix="give each section one way")
+            target[key] = _plain_value(values)
+        elif section in document:
+            raise PitfallsInputError(label, str(name), f"section '{section}' is given twice, once whole and "
+                                     "once as a dotted key", fix="give each section one way")
+        else:
+            document[section] = _plain_value(values)
+    checked = _checked(label, document, schema, is_default=False)
+    for section, values in checked.items():
+        rules[section].update(values)
+    _check_combinations(label, rules, is_default=False)
+    text = render_rules({section: values for section, values in checked.items()})
+    return rules, label, hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def _plain_value(value: Any) -> Any:
+    """Mappings as dicts and numpy scalars as Python numbers, so they are checked like YAML values."""
+    if isinstance(value, Mapping):
+        return {key: _plain_value(item) for key, item in value.items()}
+    if type(value).__module__ == "numpy" and hasattr(value, "item"):
+        return value.item()
+    return value

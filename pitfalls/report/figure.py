@@ -30,11 +30,11 @@ def require_matplotlib() -> None:
                                  'install it with: pip install "pitfalls[figure]" (or pip install matplotlib)') from err
 
 
-def _panel(result: ScanResult, rules: Mapping[str, Any]):
+def _panel(result: ScanResult, rules: Mapping[str, Any], source: Any = None):
     from pitfalls.io.placement import place_picks
     from pitfalls.io.segy import SeismicFile
     info = result.section
-    seismic = SeismicFile(info.path, rules["section"]["fallback_trace_spacing_m"])
+    seismic = source if source is not None else SeismicFile(info.path, rules["section"]["fallback_trace_spacing_m"])
     try:
         placed = place_picks(list(result.pick_files), seismic.info, seismic.layout)
         if seismic.info.geometry == "2d":
@@ -46,31 +46,43 @@ def _panel(result: ScanResult, rules: Mapping[str, Any]):
                 break
         return seismic.inline_panel(inline_index), placed.panel(inline_index)
     finally:
-        seismic.close()
+        if source is None:
+            seismic.close()
 
 
-def draw(result: ScanResult, rules: Mapping[str, Any]) -> bytes:
+def draw(result: ScanResult, rules: Mapping[str, Any], source: Any = None) -> bytes:
     """The figure as PNG bytes."""
+    figure = make_figure(result, rules, source)
+    buffer = io.BytesIO()
+    figure.savefig(buffer, format="png")
+    return buffer.getvalue()
+
+
+def make_figure(result: ScanResult, rules: Mapping[str, Any], source: Any = None):
+    """The figure as a matplotlib ``Figure``, made without pyplot so no plotting backend is chosen or changed.
+
+    ``source`` is the section the scan read when it is not a file to open again (an array in memory).
+    """
     require_matplotlib()
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
+    from matplotlib import colormaps
+    from matplotlib.figure import Figure
     from matplotlib.patches import Rectangle
 
     from pitfalls.physics.seafloor import find_seafloor
 
-    section, picks = _panel(result, rules)
+    section, picks = _panel(result, rules, source)
     seafloor = find_seafloor(section, picks, rules)
     data = np.nan_to_num(section.data.T, nan=0.0)
     clip = float(np.percentile(np.abs(data), 99)) or 1.0
     numbers = section.trace_numbers
     extent = (numbers[0] - 0.5, numbers[-1] + 0.5, section.twt_ms[-1] + section.dt_ms / 2, section.t0_ms - section.dt_ms / 2)
-    figure, axes = plt.subplots(figsize=(13, 7.5), dpi=110)
+    figure = Figure(figsize=(13, 7.5), dpi=110)
+    axes = figure.subplots()
     axes.imshow(data, cmap="RdBu_r", vmin=-clip, vmax=clip, aspect="auto", extent=extent, interpolation="bilinear")
     for order, style in ((2, (0, (6, 4))), (3, (0, (2, 3)))):
         axes.plot(numbers, order * seafloor.twt_ms, color="0.15", linewidth=0.7, linestyle=style,
                   label=f"predicted seafloor multiple ({order}x seafloor time)")
-    colours = plt.get_cmap("tab10")
+    colours = colormaps["tab10"]
     for index, horizon in enumerate(picks.horizons):
         style = {"contact": "--", "seafloor": ":"}.get(horizon.kind, "-")
         axes.plot(numbers, horizon.twt_ms, style, color=colours(index % 10), linewidth=1.2, alpha=0.9,
@@ -103,7 +115,4 @@ def draw(result: ScanResult, rules: Mapping[str, Any]) -> bytes:
                    "(boxes numbered by rank; a screening aid, not a review)")
     axes.legend(loc="lower left", fontsize=7, framealpha=0.85)
     figure.tight_layout()
-    buffer = io.BytesIO()
-    figure.savefig(buffer, format="png")
-    plt.close(figure)
-    return buffer.getvalue()
+    return figure

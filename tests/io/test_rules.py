@@ -77,7 +77,7 @@ def test_no_user_file_gives_the_defaults_with_their_path_and_hash(defaults):
     assert used == str(defaults)
     assert digest == hashlib.sha256(defaults.read_bytes()).hexdigest()
     assert rules == {**core_defaults(), "fake": FAKE_DEFAULTS}
-    assert list(rules) == ["velocity", "section", "seafloor", "ranking", "fake"]
+    assert list(rules) == ["velocity", "section", "seafloor", "ranking", "describe", "fake"]
 
 
 def test_user_file_overrides_a_subset_and_reports_its_own_path_and_hash(tmp_path, defaults):
