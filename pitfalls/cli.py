@@ -175,16 +175,18 @@ def _emit(result, fmt: str, output: str | None, quiet: bool, stdout: Console) ->
 
 
 def _describe(args: argparse.Namespace, stdout: Console) -> int:
+    from rich.console import Console
+
     from pitfalls.describe import describe_file
     from pitfalls.report import description as report
     if args.force_2d and (args.iline_byte or args.xline_byte):
         raise PitfallsInputError("command line", "", "--2d cannot be combined with --iline-byte/--xline-byte",
                                  "use --2d for a line, or the byte options for a 3-D volume")
+    check_run_paths(inputs={"SECTION": args.section, "--picks": args.picks, "--rules": args.rules},
+                    outputs={"--output": args.output}, repeatable=("--picks",))
     rules, _, _ = _load_rules(args.rules)
-    if args.output and os.path.abspath(args.output) in {os.path.abspath(p) for p in [args.section, *args.picks]}:
-        raise PitfallsInputError(args.output, "", "is one of the input files", "write the output somewhere else; inputs are never changed")
-    description = describe_file(args.section, args.picks, rules, args.iline_byte or 189, args.xline_byte or 193,
-                                args.force_2d)
+    description = describe_file(args.section, args.picks, rules, _byte(args.iline_byte, 189),
+                                _byte(args.xline_byte, 193), args.force_2d)
     if args.format == "json":
         text = json.dumps(report.description_dict(description), indent=2) + "\n"
     elif args.format == "markdown":
