@@ -100,7 +100,7 @@ def scan_child(section: str, picks: str) -> dict:
         "import json, resource, sys, time\n"
         "from pitfalls.cli import main\n"
         "started = time.perf_counter()\n"
-        f"code = main(['scan', {section!r}, '--picks', {picks!r}, '--format', 'json', '--output', {section + '.json'!r}, '--fail-on', 'never'])\n"
+        f"code = main(['scan', {section!r}, '--picks', {picks!r}, '--format', 'json', '--output', {section + '.json'!r}, '--gate', 'off'])\n"
         "seconds = time.perf_counter() - started\n"
         "peak_mib = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024\n"
         "print(json.dumps({'exit': code, 'seconds': seconds, 'peak_mib': peak_mib}))\n")

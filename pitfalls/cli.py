@@ -1,6 +1,6 @@
 """The command line: the only module that prints or exits.
 
-Exit codes: 0 the scan ran and no finding reached ``--fail-on``; 1 a finding reached it or a
+Exit codes: 0 the scan ran and no finding reached ``--gate``; 1 a finding reached it or a
 detector failed; 2 bad input or usage (one line on stderr, no traceback); 130 stopped by
 SIGINT and 143 by SIGTERM (one line, no traceback, no temporary file left beside an output).
 The heavy modules (numpy, scipy, rich, the detectors) are imported inside :func:`main`, so
@@ -14,6 +14,7 @@ import json
 import os
 import signal
 import sys
+import warnings
 from typing import TYPE_CHECKING, Sequence
 
 from pitfalls import __version__
@@ -25,6 +26,7 @@ if TYPE_CHECKING:
 
 EXIT_OK, EXIT_FINDINGS, EXIT_INPUT = 0, 1, 2
 EXIT_SIGINT, EXIT_SIGTERM = 130, 143
+RULES_HELP = "YAML rules overriding any subset of the built-in defaults (a copy is rules/default.yaml in the repository)"
 
 
 class Terminated(BaseException):
@@ -49,13 +51,14 @@ def build_parser() -> argparse.ArgumentParser:
     scan = commands.add_parser("scan", help="scan a SEG-Y section and its picks, print the ranked report")
     scan.add_argument("section", metavar="SECTION", help="post-stack SEG-Y file (2-D line or 3-D volume)")
     scan.add_argument("--picks", action="append", default=[], metavar="FILE", help="pick file (CSV); repeatable")
-    scan.add_argument("--rules", metavar="FILE", help="YAML rules overriding rules/default.yaml")
+    scan.add_argument("--rules", metavar="FILE", help=RULES_HELP)
     scan.add_argument("--format", choices=("terminal", "json", "markdown"), default="terminal")
     scan.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
     scan.add_argument("--annotated-picks", metavar="FILE.csv", help="write the pick rows back with their findings")
     scan.add_argument("--figure", metavar="FILE.png", help="draw the section, picks and findings (needs matplotlib)")
-    scan.add_argument("--fail-on", choices=("high", "medium", "low", "never"), default="high",
-                      help="exit 1 when a finding is at least this severe (default high)")
+    scan.add_argument("--gate", choices=("high", "medium", "low", "off"), default="high",
+                      help="exit 1 when a finding is at least this severe (default high; off: only a failed "
+                           "detector exits 1)")
     scan.add_argument("--iline-byte", type=int, metavar="N", help="trace-header byte of the inline number (default 189)")
     scan.add_argument("--xline-byte", type=int, metavar="N", help="trace-header byte of the crossline number (default 193)")
     scan.add_argument("--2d", dest="force_2d", action="store_true", help="read the file as a 2-D line in trace order")
@@ -77,7 +80,7 @@ def build_parser() -> argparse.ArgumentParser:
     demo.add_argument("--out", metavar="DIR", default="pitfalls-demo", help="folder for the demo files (default ./pitfalls-demo)")
 
     rules = commands.add_parser("rules", help="print the active rules, defaults merged, validated")
-    rules.add_argument("--rules", metavar="FILE", help="YAML rules overriding rules/default.yaml")
+    rules.add_argument("--rules", metavar="FILE", help=RULES_HELP)
 
     explain = commands.add_parser("explain", help="what a finding means, why it matters, what to check")
     explain.add_argument("finding_id", nargs="?", metavar="FINDING_ID")
@@ -150,7 +153,7 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.figure:
         from pitfalls.report.figure import draw
         write_atomically(args.figure, draw(result, rules))
-    if result.failed or result.reaches(args.fail_on):
+    if result.failed or result.reaches(args.gate):
         return EXIT_FINDINGS
     return EXIT_OK
 
@@ -233,7 +236,10 @@ def _demo(args: argparse.Namespace, stdout: Console) -> int:
 def _rules(args: argparse.Namespace) -> int:
     from pitfalls.io.rules import render_rules
     rules, rules_path, _ = _load_rules(args.rules)
-    sys.stdout.write(f"# active rules: {rules_path} merged over the defaults\n")
+    if args.rules:
+        sys.stdout.write(f"# active rules: {rules_path} merged over the built-in defaults\n")
+    else:
+        sys.stdout.write(f"# active rules: {rules_path}\n")
     sys.stdout.write(render_rules(rules))
     return EXIT_OK
 
@@ -258,7 +264,30 @@ def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit code (also used by ``python -m pitfalls``)."""
     previous = _catch_sigterm()
     try:
-        from rich.console import Console
+        with warnings.catch_warnings():
+            # stderr carries progress and the one error line only: numerical warnings from damaged
+            # data are not the user's business (NaN results are handled where they are used).
+            warnings.simplefilter("ignore", RuntimeWarning)
+            return _run(argv)
+    except PitfallsInputError as err:
+        sys.stdout.flush()
+        print(f"pitfalls: error: {err.one_line()}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        _stopped("interrupted (SIGINT)")
+        return EXIT_SIGINT
+    except Terminated:
+        _stopped("terminated (SIGTERM)")
+        return EXIT_SIGTERM
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
+
+
+def _run(argv: Sequence[str] | None) -> int:
+    import numpy as np
+    from rich.console import Console
+    with np.errstate(all="ignore"):
         stdout = Console(highlight=False)
         args = build_parser().parse_args(argv)
         if args.command == "scan":
@@ -273,19 +302,6 @@ def main(argv: Sequence[str] | None = None) -> int:
             return _explain(args, stdout)
         build_parser().print_help()
         return EXIT_INPUT
-    except PitfallsInputError as err:
-        sys.stdout.flush()
-        print(f"pitfalls: error: {err.one_line()}", file=sys.stderr)
-        return EXIT_INPUT
-    except KeyboardInterrupt:
-        _stopped("interrupted (SIGINT)")
-        return EXIT_SIGINT
-    except Terminated:
-        _stopped("terminated (SIGTERM)")
-        return EXIT_SIGTERM
-    finally:
-        if previous is not None:
-            signal.signal(signal.SIGTERM, previous)
 
 
 def _raise_terminated(signum: int, frame: object) -> None:

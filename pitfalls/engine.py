@@ -71,8 +71,8 @@ class ScanResult:
         return tuple(run for run in self.detectors if run.status == "failed")
 
     def reaches(self, threshold: str) -> bool:
-        """True when a finding is at least as severe as ``threshold`` (``never`` is never reached)."""
-        if threshold == "never":
+        """True when a finding is at least as severe as ``threshold`` (``off`` is never reached)."""
+        if threshold == "off":
             return False
         return any(SEVERITY_ORDER[f.severity] <= SEVERITY_ORDER[threshold] for f in self.findings)
 

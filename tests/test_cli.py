@@ -73,16 +73,40 @@ def test_version():
 
 def test_terminal_report_and_exit_code(line, skipped_picks):
     result = pitfalls("scan", line, "--picks", skipped_picks)
-    assert result.returncode == 1, result.stderr  # a high finding reaches the default --fail-on high
+    assert result.returncode == 1, result.stderr  # a high finding reaches the default --gate high
     assert "pick.cycle-skip" in result.stdout
     words = " ".join(result.stdout.replace("│", " ").split())
     assert "Caution" in words and "does not replace review of the interpretation by qualified interpreters" in words
     assert result.stderr == ""
 
 
-def test_fail_on_never_and_quiet(line, skipped_picks):
-    result = pitfalls("scan", line, "--picks", skipped_picks, "--fail-on", "never", "--quiet")
+def test_gate_off_and_quiet(line, skipped_picks):
+    result = pitfalls("scan", line, "--picks", skipped_picks, "--gate", "off", "--quiet")
     assert (result.returncode, result.stdout, result.stderr) == (0, "", "")
+
+
+@pytest.mark.parametrize("gate, code", [("high", 1), ("medium", 1), ("low", 1), ("off", 0)])
+def test_gate_levels(line, skipped_picks, gate, code):
+    result = pitfalls("scan", line, "--picks", skipped_picks, "--gate", gate, "--quiet")
+    assert (result.returncode, result.stderr) == (code, "")
+
+
+def test_the_retired_gate_spelling_is_refused_and_help_names_the_gate(line, skipped_picks):
+    assert_one_line_error(pitfalls("scan", line, "--picks", skipped_picks, "--fail-on", "never"), "--fail-on")
+    assert_one_line_error(pitfalls("scan", line, "--picks", skipped_picks, "--gate", "never"), "never")
+    help_text = pitfalls("scan", "--help").stdout
+    assert "--gate {high,medium,low,off}" in help_text and "fail-on" not in help_text
+
+
+def test_rules_are_named_as_typed_or_as_built_in_defaults(line, skipped_picks, tmp_path):
+    own = tmp_path / "mine.yaml"
+    own.write_text("velocity:\n  water_velocity_m_s: 1480.0\n")
+    report = json.loads(pitfalls("scan", line, "--picks", skipped_picks, "--format", "json").stdout)
+    assert report["rules"]["path"] == "built-in defaults"
+    report = json.loads(pitfalls("scan", "line.sgy", "--picks", "picks.csv", "--rules", "mine.yaml", "--format",
+                                 "json", cwd=tmp_path).stdout)
+    assert report["rules"]["path"] == "mine.yaml" and report["section"]["path"] == "line.sgy"
+    assert str(tmp_path) not in json.dumps(report)
 
 
 def test_json_is_one_document_valid_against_schema(line, skipped_picks):
@@ -112,7 +136,7 @@ def test_markdown_and_output_file(line, skipped_picks, tmp_path):
 
 def test_annotated_picks_keep_every_row_in_order(line, skipped_picks, tmp_path):
     out = tmp_path / "annotated.csv"
-    result = pitfalls("scan", line, "--picks", skipped_picks, "--annotated-picks", out, "--fail-on", "never")
+    result = pitfalls("scan", line, "--picks", skipped_picks, "--annotated-picks", out, "--gate", "off")
     assert result.returncode == 0, result.stderr
     lines = out.read_text().splitlines()
     assert lines[0] == "horizon,trace,twt_ms,kind,finding_ids,worst_severity,top_rank"

@@ -33,9 +33,9 @@ from typing import Any, Mapping
 
 import numpy as np
 
+from pitfalls.context import Context
 from pitfalls.model import Finding, Horizon, Picks, Section
 from pitfalls.physics import overburden as physics
-from pitfalls.physics.seafloor import dominant_frequency_hz, find_seafloor
 from pitfalls.physics.velocity import VelocityModel
 
 NAME = "overburden"
@@ -70,12 +70,10 @@ RULE_KEYS = {
 }
 
 
-def detect(section: Section, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
+def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
     """Pull-downs and push-ups on every picked horizon of one panel."""
-    seafloor = find_seafloor(section, picks, rules)
-    frequency_hz = dominant_frequency_hz(section, seafloor.twt_ms)
-    velocity = VelocityModel.from_rules(rules)
-    return find_overburden_effects(section, picks, seafloor.twt_ms, frequency_hz, velocity, rules[NAME])
+    return find_overburden_effects(block, picks, context.seafloor.twt_ms, context.dominant_frequency_hz,
+                                   context.velocity, rules[NAME])
 
 
 def find_overburden_effects(section: Section, picks: Picks, seafloor_twt_ms: np.ndarray, frequency_hz: float,

@@ -1,4 +1,8 @@
-"""Load the rules: ``rules/default.yaml`` merged with an optional user file, every value checked.
+"""Load the rules: the packaged defaults merged with an optional user file, every value checked.
+
+The defaults ship inside the package (``pitfalls/data/default_rules.yaml``, read with
+:mod:`importlib.resources`, so any install finds them); ``rules/default.yaml`` at the top of
+the repository is the user-facing copy of the same bytes.
 
 The rules file is YAML read with the project's safe loader, :func:`pitfalls.io.yaml_safe.read_yaml`
 (``yaml.safe_load`` without anchors, aliases or duplicate keys, size-capped).
@@ -27,6 +31,7 @@ from __future__ import annotations
 import copy
 import difflib
 import hashlib
+import importlib.resources
 import math
 import pathlib
 from typing import Any, Mapping
@@ -34,7 +39,7 @@ from typing import Any, Mapping
 import yaml
 
 from pitfalls.errors import PitfallsInputError
-from pitfalls.io.yaml_safe import read_yaml
+from pitfalls.io.yaml_safe import parse_yaml, read_yaml
 
 KeySpec = tuple  # (type, minimum or None, maximum or None)
 
@@ -104,9 +109,13 @@ CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
 _TYPE_WORDS = {float: "a number", int: "a whole number", bool: "true or false", str: "text"}
 
 
-def default_rules_path() -> pathlib.Path:
-    """``rules/default.yaml`` at the top of the repository."""
-    return pathlib.Path(__file__).resolve().parents[2] / "rules" / "default.yaml"
+BUILT_IN = "built-in defaults"
+"""How reports name the packaged defaults (never by their path inside the installation)."""
+
+
+def default_rules_bytes() -> bytes:
+    """The packaged defaults file, byte for byte (``pitfalls/data/default_rules.yaml``)."""
+    return importlib.resources.files("pitfalls").joinpath("data", "default_rules.yaml").read_bytes()
 
 
 def load_rules(path: str | None, detector_keys: Mapping[str, Mapping[str, KeySpec]],
@@ -120,14 +129,15 @@ def load_rules(path: str | None, detector_keys: Mapping[str, Mapping[str, KeySpe
     detector_keys : Mapping
         Detector ``NAME`` -> its ``RULE_KEYS`` (key -> ``(type, minimum, maximum)``).
     defaults_path : str or pathlib.Path, optional
-        The defaults file; :func:`default_rules_path` when not given.
+        A defaults file; the packaged defaults (:func:`default_rules_bytes`) when not given.
 
     Returns
     -------
     rules : dict
         A fresh nested dict: section -> key -> value.
     used_path : str
-        The user's file as given, or the defaults file.
+        The user's file as given, :data:`BUILT_IN` for the packaged defaults, or
+        ``defaults_path`` as given.
     sha256 : str
         Hex SHA-256 of the bytes of ``used_path``.
 
@@ -141,8 +151,14 @@ def load_rules(path: str | None, detector_keys: Mapping[str, Mapping[str, KeySpe
     if clash:
         raise ValueError(f"detector names clash with core rules sections: {sorted(clash)}")
     schema: dict[str, Mapping[str, KeySpec]] = {**CORE_KEYS, **detector_keys}
-    defaults_file = str(pathlib.Path(defaults_path) if defaults_path is not None else default_rules_path())
-    default_bytes, default_document = _read_yaml(defaults_file, is_default=True)
+    if defaults_path is None:
+        defaults_file = BUILT_IN
+        default_bytes = default_rules_bytes()
+        default_document = parse_yaml(default_bytes.decode("utf-8"), defaults_file, what="rules file",
+                                      fix=lambda fix: _default_fix(True, fix))
+    else:
+        defaults_file = str(defaults_path)
+        default_bytes, default_document = _read_yaml(defaults_file, is_default=True)
     rules = _checked(defaults_file, default_document, schema, is_default=True)
     _check_combinations(defaults_file, rules, is_default=True)
     if path is None:
@@ -165,7 +181,7 @@ def render_rules(rules: Mapping[str, Any]) -> str:
 # --- reading ----------------------------------------------------------------------------
 def _default_fix(is_default: bool, fix: str) -> str:
     if is_default:
-        return f"the shipped defaults are damaged: restore rules/default.yaml from the repository ({fix})"
+        return f"the shipped defaults are damaged: reinstall pitfalls ({fix})"
     return fix
 
 

@@ -12,6 +12,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
+from detecting import run_detector
+
 from pitfalls import detectors as registry
 from pitfalls.detectors import overburden
 from pitfalls.io.rules import load_rules
@@ -44,7 +46,7 @@ def test_flat_in_depth_horizon_under_canyon_is_a_pull_down(rules):
     """A horizon flat at 1500 m under a 150 m canyon: predicted 2 x 150 x (1/1500 - 1/2000) = 50 ms;
     flagged over the canyon, scale factor 1, and the relief left under a quarter period."""
     modelled, picks = line(np.full(N_TRACES, 1500.0), 150.0)
-    findings = overburden.detect(modelled.section, picks, rules)
+    findings = run_detector(overburden, modelled.section, picks, rules)
     assert [f.id for f in findings] == ["overburden.pull-down"]
     found = findings[0]
     assert found.severity == "medium" and found.horizon == "H"
@@ -61,7 +63,7 @@ def test_syncline_under_flat_seafloor_is_clean(rules):
     """A real syncline (60 m deep) under a flat seafloor: nothing to predict, nothing reported."""
     syncline = 1540.0 - anticline(N_TRACES, 150.0, 0.0, 60.0, 60.0) + 20.0
     modelled, picks = line(syncline, 0.0)
-    assert overburden.detect(modelled.section, picks, rules) == []
+    assert run_detector(overburden, modelled.section, picks, rules) == []
 
 
 def test_syncline_under_canyon_is_flagged_only_for_the_canyons_part(rules):
@@ -70,7 +72,7 @@ def test_syncline_under_canyon_is_flagged_only_for_the_canyons_part(rules):
     period: 40 m x (1 - 2^-(46/60)^2) x 2 / 2000 m/s = 13.4 ms), so it is low, not medium."""
     syncline = 1500.0 + 40.0 - anticline(N_TRACES, 150.0, 0.0, 40.0, 60.0)
     modelled, picks = line(syncline, 150.0)
-    findings = overburden.detect(modelled.section, picks, rules)
+    findings = run_detector(overburden, modelled.section, picks, rules)
     assert [f.id for f in findings] == ["overburden.pull-down"]
     found = findings[0]
     assert found.severity == "low"
@@ -84,7 +86,7 @@ def test_syncline_under_canyon_is_flagged_only_for_the_canyons_part(rules):
 def test_mound_gives_a_push_up(rules):
     """A 100 m seafloor mound over a flat horizon: push-up of 2 x 100 x (1/1500 - 1/2000) = 33.3 ms."""
     modelled, picks = line(np.full(N_TRACES, 1500.0), -100.0)
-    findings = overburden.detect(modelled.section, picks, rules)
+    findings = run_detector(overburden, modelled.section, picks, rules)
     assert [f.id for f in findings] == ["overburden.push-up"]
     assert findings[0].evidence["predicted_relief_ms"] == pytest.approx(33.3, abs=2.0)
 
@@ -94,4 +96,4 @@ def test_horizon_that_is_not_pulled_down_is_clean(rules):
     has no time relief to explain: clean."""
     modelled, picks = line(np.full(N_TRACES, 1500.0), 150.0)
     flat = np.full(N_TRACES, float(np.nanmedian(picks.horizons[0].twt_ms[:50])))
-    assert overburden.detect(modelled.section, Picks((Horizon("H", "horizon", flat),)), rules) == []
+    assert run_detector(overburden, modelled.section, Picks((Horizon("H", "horizon", flat),)), rules) == []

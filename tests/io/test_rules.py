@@ -4,6 +4,7 @@ from __future__ import annotations
 import copy
 import hashlib
 import math
+import pathlib
 
 import pytest
 import yaml
@@ -11,7 +12,9 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from pitfalls.errors import PitfallsInputError
-from pitfalls.io.rules import CORE_KEYS, default_rules_path, load_rules, render_rules
+from pitfalls.io.rules import BUILT_IN, CORE_KEYS, default_rules_bytes, load_rules, render_rules
+
+REPOSITORY_DEFAULTS = pathlib.Path(__file__).resolve().parents[2] / "rules" / "default.yaml"
 
 FAKE_KEYS = {"fake": {"window_ms": (float, 0.0, 100.0), "orders": (int, 2, 10), "enabled": (bool, None, None)}}
 FAKE_DEFAULTS = {"window_ms": 24.0, "orders": 3, "enabled": True}
@@ -20,8 +23,7 @@ FUZZ = settings(max_examples=150, deadline=None, suppress_health_check=[HealthCh
 
 def core_defaults() -> dict:
     """The core sections of the shipped rules/default.yaml."""
-    with open(default_rules_path(), encoding="utf-8") as handle:
-        shipped = yaml.safe_load(handle)
+    shipped = yaml.safe_load(default_rules_bytes().decode("utf-8"))
     return {section: shipped[section] for section in CORE_KEYS}
 
 
@@ -48,9 +50,10 @@ def refused(path, defaults, keys=FAKE_KEYS) -> PitfallsInputError:
 
 
 # --- the shipped defaults ---------------------------------------------------------------
-def test_default_rules_path_is_the_repository_rules_file():
-    path = default_rules_path()
-    assert path.parts[-2:] == ("rules", "default.yaml") and path.is_file()
+def test_packaged_defaults_are_byte_identical_to_the_repository_copy():
+    """Users read and copy rules/default.yaml; the scan uses the packaged file: they must not drift apart."""
+    assert default_rules_bytes() == REPOSITORY_DEFAULTS.read_bytes(), \
+        "copy rules/default.yaml over pitfalls/data/default_rules.yaml (edit both together)"
 
 
 def test_core_keys_describe_exactly_the_core_sections_of_the_shipped_defaults():
@@ -66,8 +69,8 @@ def test_core_keys_describe_exactly_the_core_sections_of_the_shipped_defaults():
 def test_shipped_defaults_load_with_the_registered_detectors():
     from pitfalls import detectors
     rules, used, digest = load_rules(None, detectors.rule_keys())
-    assert used == str(default_rules_path())
-    assert digest == hashlib.sha256(default_rules_path().read_bytes()).hexdigest()
+    assert used == BUILT_IN == "built-in defaults"  # never a path inside the installation
+    assert digest == hashlib.sha256(default_rules_bytes()).hexdigest()
     assert set(rules) == set(CORE_KEYS) | set(detectors.BY_NAME)
 
 
@@ -216,7 +219,7 @@ def test_broken_defaults_are_refused_naming_rules_default_yaml(tmp_path, default
     message = str(error)
     assert "rules/default.yaml" in message.replace("\\", "/")
     assert error.where == where
-    assert "restore rules/default.yaml" in message
+    assert "reinstall pitfalls" in message
     for word in words:
         assert word in message
 
