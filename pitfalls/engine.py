@@ -26,6 +26,8 @@ from pitfalls.model import Block, DetectorRun, Finding, SectionInfo
 from pitfalls.physics.velocity import VelocityModel
 from pitfalls.report.rank import SEVERITY_ORDER, rank_findings
 
+SHARED_STEP = "shared measurements"
+"""How the report names the per-panel step every detector depends on (seafloor, frequency, multiples)."""
 DEFAULT_INLINES_PER_BLOCK = 16
 """Inlines of a volume read and measured together (a 250-crossline x 1000-sample inline is 1 MB)."""
 
@@ -145,10 +147,15 @@ def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any]
         outcomes.extend(scan_block(block, placed, selected, rules, velocity, info.geometry, seconds, errors))
         if progress is not None:
             progress(len(outcomes), total)
+    read_notes = getattr(source, "read_notes", None)
+    if read_notes is not None and read_notes():
+        info = replace(info, notes=info.notes + tuple(read_notes()))
     per_panel = [list(outcome.findings) for outcome in outcomes]
     findings = merge_inlines(per_panel) if info.geometry == "3d" else per_panel[0]
     runs = tuple(DetectorRun(module.NAME, "failed" if module.NAME in errors else "ran", seconds[module.NAME],
                              errors.get(module.NAME, "")) for module in selected)
+    if SHARED_STEP in errors:
+        runs = (DetectorRun(SHARED_STEP, "failed", 0.0, errors[SHARED_STEP]),) + runs
     return ScanResult(
         section=info, pick_files=tuple(pick_files), picks=_summaries(placed), rules_path=rules_path,
         rules_sha256=rules_sha256, detectors=runs, findings=rank_findings(findings, info, rules["ranking"]),
@@ -166,18 +173,29 @@ def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules
     outcomes = []
     for offset, panel in enumerate(block.panels):
         panel_index = block.first_panel + offset
+        where = f" on {panel.name}" if geometry == "3d" else ""
+        if not np.isfinite(panel.data).any():  # no live trace: nothing to check
+            outcomes.append(PanelOutcome((), np.full(panel.n_traces, np.nan), 0, "none", float("nan")))
+            continue
         picks = placed.panel(panel_index)
-        context = build_context(panel, picks, rules, velocity)
+        try:
+            context = build_context(panel, picks, rules, velocity)
+        except Exception as err:  # the shared step is isolated like a detector: the report says it failed
+            errors.setdefault(SHARED_STEP, f"{_one_line(err)}{where}; no check ran there")
+            outcomes.append(PanelOutcome((), np.full(panel.n_traces, np.nan), 0, "none", float("nan")))
+            continue
         found: list[Finding] = []
         for module in selected:
             if module.NAME in errors:
                 continue
             started = time.perf_counter()
             try:
-                result = module.detect(panel, context, picks, rules)
+                result = list(module.detect(panel, context, picks, rules))
+                problem = next((p for p in map(malformed, result) if p), "")
+                if problem:
+                    raise ValueError(f"returned a malformed finding: {problem}")
             except Exception as err:  # a failing detector must not stop the others
-                where = f" on {panel.name}" if geometry == "3d" else ""
-                errors[module.NAME] = f"{type(err).__name__}{where}: {' '.join(str(err).split())}"
+                errors[module.NAME] = f"{_one_line(err)}{where}"
                 result = []
             seconds[module.NAME] += time.perf_counter() - started
             found.extend(result)
@@ -191,6 +209,43 @@ def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules
     return outcomes
 
 
+def _one_line(err: BaseException) -> str:
+    return f"{type(err).__name__}: {' '.join(str(err).split())}"[:500]
+
+
+def malformed(finding: Any) -> str:
+    """What is wrong with a detector's finding, or "" when the reports and the ranking can use it."""
+    if not isinstance(finding, Finding):
+        return f"{type(finding).__name__} instead of a Finding"
+    if not isinstance(finding.id, str) or finding.id.count(".") != 1:
+        return f"id {finding.id!r} is not family.kind"
+    if finding.severity not in SEVERITY_ORDER:
+        return f"{finding.id}: severity {finding.severity!r}"
+    try:
+        confidence = float(finding.confidence)
+    except (TypeError, ValueError):
+        return f"{finding.id}: confidence {finding.confidence!r}"
+    if not 0.0 <= confidence <= 1.0:  # also refuses NaN
+        return f"{finding.id}: confidence {finding.confidence!r} outside [0, 1]"
+    for name in ("traces", "inlines", "xlines", "twt_ms"):
+        value = getattr(finding, name)
+        if value is None:
+            continue
+        try:
+            low, high = (float(v) for v in value)
+        except (TypeError, ValueError):
+            return f"{finding.id}: {name} {value!r} is not a (first, last) pair"
+        if not (np.isfinite(low) and np.isfinite(high) and low <= high):
+            return f"{finding.id}: {name} {value!r} is not an increasing finite range"
+    if not isinstance(finding.title, str) or not isinstance(finding.advice, str):
+        return f"{finding.id}: title or advice is not text"
+    if not isinstance(finding.evidence, Mapping):
+        return f"{finding.id}: evidence is not a mapping"
+    if finding.horizon is not None and not isinstance(finding.horizon, str):
+        return f"{finding.id}: horizon {finding.horizon!r} is not text"
+    return ""
+
+
 def _seafloor_summary(outcomes: Sequence[PanelOutcome]) -> SeafloorSummary:
     """The seafloor of the whole scan: every trace's time, the panels' polarity vote, the dominant
     frequency of the first and the middle panel."""
@@ -200,7 +255,7 @@ def _seafloor_summary(outcomes: Sequence[PanelOutcome]) -> SeafloorSummary:
     middle = len(outcomes) // 2
     frequencies = [outcomes[index].dominant_frequency_hz for index in sorted({0, middle})]
     return SeafloorSummary(
-        source="+".join(sorted({outcome.source for outcome in outcomes})), polarity=votes,
+        source="+".join(sorted({o.source for o in outcomes if o.source != "none"} or {"none"})), polarity=votes,
         n_traces_found=int(found_seafloor.size),
         twt_ms_median=float(np.median(found_seafloor)) if found_seafloor.size else float("nan"),
         dominant_frequency_hz=float(np.nanmedian(frequencies)) if np.isfinite(frequencies).any() else float("nan"))

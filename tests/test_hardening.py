@@ -7,8 +7,12 @@ import subprocess
 import sys
 import time
 
+import json
+import re
+
 import numpy as np
 import pytest
+import segyio
 
 from segy_files import write_segy
 
@@ -191,3 +195,169 @@ def test_write_whole_leaves_no_temporary_file_when_interrupted(tmp_path):
         with pytest.raises(stop):
             write_whole(target, write_into)
         assert os.listdir(tmp_path) == ["r.json"] and target.read_text() == "old\n"
+
+
+# --- SEG-Y headers and data -----------------------------------------------------------
+def _wavy(n_traces=30, n_samples=300, dt_ms=4.0):
+    twt = np.arange(n_samples) * dt_ms
+    trace = np.exp(-((twt - 300.0) / 8.0) ** 2) - 0.5 * np.exp(-((twt - 700.0) / 8.0) ** 2)
+    rng = np.random.default_rng(5)
+    return np.tile(trace, (n_traces, 1)) + 0.01 * rng.standard_normal((n_traces, n_samples))
+
+
+def patched(path, offset, value, size=2, endian="big"):
+    """Overwrite one header field of a test copy in place (the copy is the test's own input)."""
+    with open(path, "r+b") as handle:
+        handle.seek(offset)
+        handle.write(int(value).to_bytes(size, endian, signed=value < 0))
+    return path
+
+
+def scan_refused(section, *fragments, extra=()):
+    before = sha256(section)
+    result = pitfalls("scan", section, *extra)
+    assert_one_line_error(result, str(section), *fragments)
+    assert sha256(section) == before
+    return result
+
+
+def test_folder_as_section_is_called_a_folder(tmp_path):
+    assert_one_line_error(pitfalls("scan", tmp_path), "is a folder, not a SEG-Y file")
+
+
+def test_binary_sample_count_disagreeing_with_the_traces_is_not_called_truncated(tmp_path):
+    section = patched(write_segy(tmp_path / "s.sgy", _wavy()), 3220, 1)
+    result = scan_refused(section, "binary header byte 3221", "says 1 samples per trace",
+                          "first trace header (byte 115) says 300")
+    assert "truncated" not in result.stderr
+
+
+@pytest.mark.parametrize("interval_us, words", [(1, "1 us, outside"), (2, "2 us, outside"),
+                                                (30000, "30000 us, outside")])
+def test_absurd_sample_intervals_are_refused_before_any_allocation(tmp_path, interval_us, words):
+    section = write_segy(tmp_path / "s.sgy", _wavy(), binary_dt_us=interval_us, trace_dt_us=interval_us)
+    scan_refused(section, "byte 3217", words)
+
+
+@pytest.mark.parametrize("n_traces, n_samples, words", [(1, 300, "holds 1 trace"), (30, 1, "says 1 sample per trace")])
+def test_one_trace_and_one_sample_sections_are_refused(tmp_path, n_traces, n_samples, words):
+    section = write_segy(tmp_path / "s.sgy", _wavy(n_traces, n_samples))
+    scan_refused(section, words)
+
+
+@pytest.mark.parametrize("fill", [np.nan, 0.0, np.inf])
+def test_sections_without_live_samples_are_refused(tmp_path, fill):
+    section = write_segy(tmp_path / "s.sgy", np.full((30, 300), fill, dtype=np.float32))
+    scan_refused(section, "holds no live samples", "all 30 traces")
+
+
+def test_partly_dead_section_says_how_much_and_checks_only_the_live_traces(tmp_path):
+    data = _wavy()
+    data[:12] = 0.0
+    data[12:15] = np.nan
+    data[20, 5] = np.inf
+    section = write_segy(tmp_path / "s.sgy", data)
+    before = sha256(section)
+    result = pitfalls("scan", section, "--format", "json")
+    assert result.returncode == 0, result.stderr
+    assert result.stderr == ""
+    report = json.loads(result.stdout)
+    notes = " ".join(report["section"]["notes"])
+    assert "15 of 30 traces (50.0%) are dead" in notes and "1 samples in live traces are NaN or infinite" in notes
+    assert sha256(section) == before
+
+
+def test_little_endian_segy_is_read(tmp_path):
+    spec = segyio.spec()
+    spec.format, spec.samples, spec.tracecount, spec.endian = 5, np.arange(300) * 4.0, 30, "little"
+    path = tmp_path / "little.sgy"
+    data = _wavy().astype(np.float32)
+    with segyio.create(str(path), spec) as out:
+        out.bin.update({segyio.BinField.Interval: 4000, segyio.BinField.Samples: 300, segyio.BinField.Format: 5})
+        for index in range(30):
+            out.header[index] = {segyio.TraceField.TRACE_SAMPLE_COUNT: 300,
+                                 segyio.TraceField.TRACE_SAMPLE_INTERVAL: 4000}
+            out.trace[index] = data[index]
+    with open(path, "rb") as handle:
+        assert handle.read(3600)[3224:3226] == b"\x05\x00"  # written little-endian
+    before = sha256(path)
+    result = pitfalls("scan", path, "--format", "json")
+    assert result.returncode == 0, result.stderr
+    report = json.loads(result.stdout)
+    assert report["section"]["n_samples"] == 300 and report["section"]["dt_ms"] == 4.0
+    assert any("little-endian" in note for note in report["section"]["notes"])
+    assert sha256(path) == before
+
+
+def test_mostly_empty_header_grid_is_refused_with_the_share_and_2d(tmp_path):
+    n = 40
+    section = write_segy(tmp_path / "s.sgy", _wavy(n), inlines=np.arange(1, n + 1), xlines=np.arange(1, n + 1))
+    scan_refused(section, "40 x 40 inline/crossline grid for 40 traces", "97.5% of its positions would be empty", "--2d")
+
+
+@pytest.mark.parametrize("delay_ms", [-100, 100])
+def test_sections_starting_before_or_after_time_zero_scan_with_every_detector(tmp_path, delay_ms):
+    section = write_segy(tmp_path / "s.sgy", _wavy(), delay_ms=delay_ms)
+    picks = tmp_path / "p.csv"
+    picks.write_text("horizon,trace,twt_ms\n" + "".join(f"H1,{t},{700 + delay_ms}\n" for t in range(1, 31)))
+    result = pitfalls("scan", section, "--picks", picks, "--format", "json", "--gate", "off")
+    assert result.returncode == 0, result.stderr
+    report = json.loads(result.stdout)
+    assert report["section"]["t0_ms"] == delay_ms
+    assert [run["status"] for run in report["detectors"]] == ["ran"] * len(report["detectors"])
+
+
+# --- isolation of the steps after reading ---------------------------------------------
+INJECT = """
+import sys
+import pitfalls.engine as engine
+from pitfalls import detectors
+from pitfalls.cli import exit_code, main
+case = sys.argv.pop(1)
+if case == "context":
+    def broken_context(*args, **kwargs):
+        raise FloatingPointError("seafloor step broke")
+    engine.build_context = broken_context
+else:
+    module = detectors.DETECTORS[0]
+    def malformed(*args, **kwargs):
+        return [{"id": "not a finding"}] if case == "type" else [engine.Finding(
+            id="multiple.seafloor", detector=module.NAME, severity="urgent", confidence=2.0, title="t", advice="a")]
+    module.detect = malformed
+sys.exit(exit_code(main()))
+"""
+
+
+@pytest.mark.parametrize("case, failed_name, words", [
+    ("context", "shared measurements", "FloatingPointError: seafloor step broke"),
+    ("type", None, "malformed finding: dict instead of a Finding"),
+    ("severity", None, "malformed finding: multiple.seafloor: severity 'urgent'"),
+])
+def test_failures_after_reading_are_reported_not_raised(tmp_path, run_files, case, failed_name, words):
+    section, picks, _ = run_files
+    out = tmp_path / "r.json"
+    result = subprocess.run([sys.executable, "-c", INJECT, case, "scan", str(section), "--picks", str(picks),
+                             "--format", "json", "--output", str(out)], capture_output=True, text=True, timeout=300)
+    assert result.returncode == 1, result.stderr
+    assert result.stderr == ""
+    report = json.loads(out.read_text())
+    failed = [run for run in report["detectors"] if run["status"] == "failed"]
+    assert len(failed) == 1 and words in failed[0]["message"]
+    if failed_name:
+        assert failed[0]["name"] == failed_name
+    terminal = subprocess.run([sys.executable, "-c", INJECT, case, "scan", str(section), "--picks", str(picks)],
+                              capture_output=True, text=True, timeout=300, env={**os.environ, "COLUMNS": "200"})
+    assert terminal.returncode == 1 and "Traceback" not in terminal.stderr
+    assert words.split(": ")[-1] in " ".join(terminal.stdout.replace("│", " ").split())
+
+
+def test_json_report_carries_what_the_terminal_shows(tmp_path, run_files):
+    section, picks, _ = run_files
+    report = json.loads(pitfalls("scan", section, "--picks", picks, "--format", "json", "--gate", "off").stdout)
+    assert set(report["seafloor"]) == {"source", "polarity", "n_traces_found", "twt_ms_median", "dominant_frequency_hz"}
+    assert report["section"]["trace_spacing_m"] == pytest.approx(12.5)
+    assert report["section"]["trace_spacing_from_headers"] is True
+    assert isinstance(report["section"]["notes"], list)
+    assert all("message" in run for run in report["detectors"])
+    terminal = pitfalls("scan", section, "--picks", picks, "--gate", "off").stdout
+    assert not re.search(r"\bnan\b", terminal, re.IGNORECASE)

@@ -83,11 +83,20 @@ class SeismicFile:
             raise PitfallsInputError(self.path, f"trace header byte {iline_byte}",
                                      "is given for both the inline and the crossline number",
                                      "give two different bytes with --iline-byte/--xline-byte, or use --2d for a line")
-        if not os.path.isfile(self.path):
+        if os.path.isdir(self.path):
+            raise PitfallsInputError(self.path, "", "is a folder, not a SEG-Y file",
+                                     "give the path of the SEG-Y file inside it")
+        if not os.path.exists(self.path):
             raise PitfallsInputError(self.path, "", "no such file", "check the path to the SEG-Y section")
-        check_layout(self.path)
+        if not os.path.isfile(self.path):
+            raise PitfallsInputError(self.path, "", "is not a regular file (a device, pipe or socket)",
+                                     "give the path of a SEG-Y file")
+        raw = check_layout(self.path)
+        self.endian = raw.endian
+        self._state = np.zeros(raw.n_traces, dtype=np.int8)
+        self._bad_samples = np.zeros(raw.n_traces, dtype=np.int64)
         try:
-            self._file = segyio.open(self.path, "r", ignore_geometry=True)
+            self._file = segyio.open(self.path, "r", ignore_geometry=True, endian=raw.endian)
         except (RuntimeError, ValueError, OSError, IndexError) as err:
             raise PitfallsInputError(
                 self.path, "", f"cannot be read as SEG-Y ({_one_line(err)})",
@@ -127,6 +136,18 @@ class SeismicFile:
         else:
             raise PitfallsInputError(self.path, "binary header byte 3217 and trace header byte 117",
                                      "give no sample interval", "set the sample interval in the file's headers")
+        if not MIN_INTERVAL_US <= dt_us <= MAX_INTERVAL_US:
+            byte = "binary header byte 3217" if binary_dt_us > 0 else "trace header byte 117"
+            raise PitfallsInputError(self.path, byte, f"gives a sample interval of {dt_us} us, outside the "
+                                     f"{MIN_INTERVAL_US}-{MAX_INTERVAL_US} us of seismic sections",
+                                     "set the sample interval in microseconds in the file's headers (4 ms is 4000)")
+        if n_samples * dt_us / 1000.0 > MAX_RECORD_MS:
+            raise PitfallsInputError(self.path, "binary header bytes 3217 and 3221",
+                                     f"give a record {n_samples} x {dt_us} us = {n_samples * dt_us / 1e6:g} s long, "
+                                     f"longer than any seismic record ({MAX_RECORD_MS / 1000:g} s)",
+                                     "check the sample interval and count in the file's headers")
+        if self.endian == "little":
+            notes.append("the file is little-endian (SEG-Y rev 2 allows it) and was read as such")
         dt_ms = dt_us / 1000.0
         t0_ms = float(handle.samples[0])
         inlines = _read_header_field(handle, iline_byte, self.path)
@@ -261,7 +282,37 @@ class SeismicFile:
         except (RuntimeError, OSError, ValueError) as err:
             raise PitfallsInputError(self.path, "", f"traces cannot be read ({_one_line(err)})",
                                      "the file may be truncated or damaged; export it again") from err
+        self._screen(indices, out)
         return out
+
+    # --- dead data ------------------------------------------------------------------------
+    def _screen(self, indices: np.ndarray, traces: np.ndarray) -> None:
+        """Mark dead traces (no finite, nonzero sample) as no data (NaN) and zero the non-finite
+        samples of live traces, counting both; refuse the file once every trace has been read dead."""
+        finite = np.isfinite(traces)
+        live = (finite & (traces != 0)).any(axis=1)
+        bad = ~finite & live[:, None]
+        traces[bad] = 0.0
+        traces[~live] = np.nan
+        indices = np.asarray(indices, dtype=np.int64)
+        self._bad_samples[indices] = np.count_nonzero(bad, axis=1)
+        self._state[indices] = np.where(live, 1, 2)  # 0 not read yet, 1 live, 2 dead
+        if not np.any(self._state != 2):
+            raise PitfallsInputError(self.path, "", f"holds no live samples: all {len(self._state)} traces are NaN, "
+                                     "infinite or zero", "export the section again with its amplitudes; "
+                                     "check the sample format code (binary header byte 3225)")
+
+    def read_notes(self) -> tuple[str, ...]:
+        """What reading found: dead traces and non-finite samples, for the report's notes."""
+        dead, read = int(np.count_nonzero(self._state == 2)), int(np.count_nonzero(self._state))
+        bad_samples = int(self._bad_samples.sum())
+        notes = []
+        if dead:
+            notes.append(f"{dead} of {read} traces ({_percent(dead / read)}) are dead (no finite, nonzero sample); "
+                         "they are treated as no data and not checked")
+        if bad_samples:
+            notes.append(f"{bad_samples} samples in live traces are NaN or infinite; they were read as 0")
+        return tuple(notes)
 
     def close(self) -> None:
         self._file.close()
@@ -277,12 +328,54 @@ BYTES_PER_SAMPLE = {1: 4, 2: 4, 3: 2, 5: 4, 6: 8, 8: 1, 9: 8, 10: 4, 11: 2, 12: 
 """Sample format code (binary header bytes 3225-3226) -> bytes per sample (SEG-Y rev 1 and rev 2)."""
 
 
-def check_layout(path: str) -> None:
+MIN_SAMPLES = 2
+"""Fewest samples per trace a section may have: one sample holds no reflection to measure."""
+MIN_TRACES = 2
+"""Fewest traces a section may have: the checks compare neighbouring traces."""
+MIN_INTERVAL_US, MAX_INTERVAL_US = 10, 20_000
+"""Sample intervals accepted, in microseconds: from very-high-resolution site surveys (tens of us)
+to the coarsest post-stack sampling in use (a few ms), with a wide margin (common practice)."""
+MAX_RECORD_MS = 100_000.0
+"""Longest record accepted (n_samples x interval): no post-stack section is longer (common practice)."""
+_BYTE_ORDER_MARK = 0x01020304
+"""SEG-Y rev 2 binary header bytes 3297-3300: this integer as written tells the byte order."""
+
+
+@dataclass(frozen=True)
+class RawLayout:
+    """What the raw bytes say about a file before segyio opens it."""
+
+    endian: str
+    """``"big"`` (the SEG-Y default) or ``"little"`` (allowed by SEG-Y rev 2)."""
+    n_samples: int
+    """Samples per trace that the file size agrees with."""
+    n_traces: int
+    bytes_per_sample: int
+
+
+def _byte_order(binary: bytes) -> str | None:
+    """The byte order of a binary header: from the rev 2 byte-order mark, else from a defined format code."""
+    mark = binary[96:100]
+    if int.from_bytes(mark, "big") == _BYTE_ORDER_MARK:
+        return "big"
+    if int.from_bytes(mark, "little") == _BYTE_ORDER_MARK:
+        return "little"
+    if int.from_bytes(binary[24:26], "big") in BYTES_PER_SAMPLE:
+        return "big"
+    if int.from_bytes(binary[24:26], "little") in BYTES_PER_SAMPLE:
+        return "little"
+    return None
+
+
+def check_layout(path: str) -> RawLayout:
     """Check from the raw bytes that a file is header + whole fixed-length traces, before segyio opens it.
 
-    Reads the binary header (big-endian, SEG-Y rev 1): samples per trace at byte 3221,
-    format code at 3225, extended textual headers at 3505. Names the trace a truncated file
-    ends in.
+    Reads the binary header in the byte order it is written in (SEG-Y rev 2 allows both):
+    samples per trace at byte 3221, format code at 3225, extended textual headers at 3505,
+    and the first trace header's sample count (byte 115). When the binary header's sample
+    count does not fit the file but the trace header's does, the error says so instead of
+    calling the copy truncated. Names the trace a truncated file ends in. Refuses sections
+    with fewer than :data:`MIN_TRACES` traces or :data:`MIN_SAMPLES` samples.
     """
     size = os.path.getsize(path)
     with open(path, "rb") as handle:
@@ -291,29 +384,67 @@ def check_layout(path: str) -> None:
         kind = "a text file" if head and all(32 <= b < 127 or b in b"\r\n\t" for b in head) else "a file"
         raise PitfallsInputError(path, "", f"is {kind} of {size} bytes, too short for SEG-Y (3600 bytes of headers come first)",
                                  "give the SEG-Y section first (pick files go after --picks), and check the copy is complete")
-    n_samples = int.from_bytes(head[3220:3222], "big", signed=False)
-    fmt = int.from_bytes(head[3224:3226], "big", signed=False)
-    extended = int.from_bytes(head[3504:3506], "big", signed=True)
     binary = head[3200:3600]
-    if fmt not in BYTES_PER_SAMPLE and b"\n" in binary and all(32 <= b < 127 or b in b"\r\n\t" for b in binary):
-        raise PitfallsInputError(path, "", "is a text file (lines of characters where the binary header should be), "
-                                 "not SEG-Y", "give the SEG-Y section first and pick files with --picks")
-    if fmt not in BYTES_PER_SAMPLE:
-        raise PitfallsInputError(path, "binary header byte 3225", f"has sample format code {fmt}, which SEG-Y does not define",
-                                 "check that the file is SEG-Y (big-endian) and not another format")
+    endian = _byte_order(binary)
+    if endian is None:
+        if b"\n" in binary and all(32 <= b < 127 or b in b"\r\n\t" for b in binary):
+            raise PitfallsInputError(path, "", "is a text file (lines of characters where the binary header should be), "
+                                     "not SEG-Y", "give the SEG-Y section first and pick files with --picks")
+        fmt = int.from_bytes(head[3224:3226], "big", signed=False)
+        raise PitfallsInputError(path, "binary header byte 3225",
+                                 f"has sample format code {fmt}, which SEG-Y does not define (in either byte order)",
+                                 "check that the file is SEG-Y and not another format")
+    n_samples = int.from_bytes(head[3220:3222], endian, signed=False)
+    fmt = int.from_bytes(head[3224:3226], endian, signed=False)
+    extended = int.from_bytes(head[3504:3506], endian, signed=True)
     header_bytes = 3600 + 3200 * max(0, extended)
     if size <= header_bytes:
+        if extended > 0 and size > 3600:
+            raise PitfallsInputError(path, "binary header byte 3505",
+                                     f"says {extended} extended textual headers ({3200 * extended} bytes), "
+                                     f"more than the {size - 3600} bytes after the binary header",
+                                     "set the extended header count right, or export the section again")
         raise PitfallsInputError(path, "", "holds no traces (headers only)", "export the section again with its traces")
-    if n_samples == 0:
-        return  # segyio reads the count from the first trace header; checked after opening
-    trace_bytes = 240 + n_samples * BYTES_PER_SAMPLE[fmt]
-    remainder = (size - header_bytes) % trace_bytes
-    if remainder:
-        whole = (size - header_bytes) // trace_bytes
+    first_trace = b""
+    if size >= header_bytes + 240:
+        with open(path, "rb") as handle:
+            handle.seek(header_bytes)
+            first_trace = handle.read(240)
+    trace_n_samples = int.from_bytes(first_trace[114:116], endian, signed=False) if first_trace else 0
+    bytes_per_sample = BYTES_PER_SAMPLE[fmt]
+    body = size - header_bytes
+
+    def fits(count: int) -> bool:
+        return count > 0 and body % (240 + count * bytes_per_sample) == 0
+
+    if n_samples == 0 and trace_n_samples == 0:
+        raise PitfallsInputError(path, "binary header byte 3221 and trace header byte 115", "say 0 samples per trace",
+                                 "export the section again with a valid sample count")
+    used = n_samples or trace_n_samples
+    if not fits(used):
+        if n_samples and trace_n_samples and trace_n_samples != n_samples and fits(trace_n_samples):
+            raise PitfallsInputError(
+                path, "binary header byte 3221",
+                f"says {n_samples} samples per trace, but the first trace header (byte 115) says {trace_n_samples} "
+                "and the file size fits that count",
+                f"correct the binary header's sample count to {trace_n_samples}, or export the section again")
+        trace_bytes = 240 + used * bytes_per_sample
+        whole = body // trace_bytes
+        remainder = body % trace_bytes
         raise PitfallsInputError(
             path, f"trace {whole + 1}",
-            f"the file ends part-way through this trace ({remainder} of {trace_bytes} bytes)",
+            f"the file ends part-way through this trace ({remainder} of {trace_bytes} bytes, "
+            f"{used} samples of {bytes_per_sample} bytes)",
             "the copy is truncated; copy or export the section again")
+    n_traces = body // (240 + used * bytes_per_sample)
+    if used < MIN_SAMPLES:
+        raise PitfallsInputError(path, "binary header byte 3221" if n_samples else "trace header byte 115",
+                                 f"says {used} sample{'s' if used != 1 else ''} per trace, which holds no reflection to check; "
+                                 f"at least {MIN_SAMPLES} are needed", "export the section with its whole record length")
+    if n_traces < MIN_TRACES:
+        raise PitfallsInputError(path, "", f"holds {n_traces} trace; the checks compare neighbouring traces and need "
+                                 f"at least {MIN_TRACES}", "export the whole line or volume")
+    return RawLayout(endian, used, n_traces, bytes_per_sample)
 
 
 def _read_header_field(handle: segyio.SegyFile, byte: int, path: str) -> np.ndarray:
