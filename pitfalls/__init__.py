@@ -4,7 +4,7 @@ The Python interface, for notebooks and pipelines. The command line is a thin la
 both give the same report for the same inputs.
 
 >>> import pitfalls
->>> report = pitfalls.scan("demo_data/QT24-117.sgy", picks="demo_data/QT24-117_picks.csv")  # doctest: +SKIP
+>>> report = pitfalls.scan("demo_data/OT25-117.sgy", picks="demo_data/OT25-117_picks.csv")  # doctest: +SKIP
 >>> report.passes(gate="high")  # doctest: +SKIP
 False
 
@@ -41,6 +41,7 @@ __all__ = [
     "Finding",
     "PitfallsInputError",
     "GATES",
+    "default_jobs",
 ]
 
 GATES = ("high", "medium", "low", "off")
@@ -235,7 +236,7 @@ class Report:
         return {severity: sum(1 for f in self.findings if f.severity == severity) for severity in _SEVERITY_ORDER}
 
     def passes(self, gate: str = "high") -> bool:
-        """True when no finding reaches ``gate`` and every detector ran.
+        """True when no finding reaches ``gate`` and every detector ran; accepted findings do not count.
 
         Parameters
         ----------
@@ -259,7 +260,8 @@ class Report:
             return False
         if gate == "off":
             return True
-        return not any(_SEVERITY_ORDER[f.severity] <= _SEVERITY_ORDER[gate] for f in self.findings)
+        return not any(_SEVERITY_ORDER[f.severity] <= _SEVERITY_ORDER[gate] for f in self.findings
+                       if getattr(f, "accepted", None) is None)  # a reviewer's accepted finding is not gated
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON report (schema ``pitfalls-report/1``) as plain Python values."""
@@ -424,7 +426,9 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
     only : str or sequence of str, optional
         Run only these detectors (``"multiples,contacts"`` or a list); all when None.
     jobs : int, optional
-        Worker processes for the scan; None lets the engine choose.
+        Worker processes for the blocks of a volume; the report is the same for any number.
+        None: one per available core for a file, 1 for an array (each worker process would
+        need its own copy of the array).
     dt_ms, t0_ms : float
         For an array: the sample interval (required) and the time of the first sample
         (default 0), in ms.
@@ -445,7 +449,7 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
     force_2d : bool
         For a SEG-Y file: read it as a line in trace order.
     progress : callable, optional
-        Called as ``progress(done, total)`` as the scan goes.
+        Called after every block as ``progress(panels_done, panels_total, samples_done)``.
 
     Returns
     -------
@@ -500,7 +504,21 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
         with SeismicFile(source, values["section"]["fallback_trace_spacing_m"], iline_byte or DEFAULT_INLINE_BYTE,
                          xline_byte or DEFAULT_XLINE_BYTE, force_2d) as seismic:
             result = engine.scan_source(seismic, pick_files, values, active.path, active.sha256, detectors,
-                                        progress=progress)
+                                        progress=progress, jobs=default_jobs() if jobs is None else jobs)
         return Report(result, active)
-    result = engine.scan_source(source, pick_files, values, active.path, active.sha256, detectors, progress=progress)
+    result = engine.scan_source(source, pick_files, values, active.path, active.sha256, detectors, progress=progress,
+                                jobs=1 if jobs is None else jobs)
     return Report(result, active, source)
+
+
+def default_jobs() -> int:
+    """Worker processes a scan of a file uses unless told: one per core this process may use.
+
+    Returns
+    -------
+    int
+    """
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # platforms without CPU affinity
+        return max(1, os.cpu_count() or 1)

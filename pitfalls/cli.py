@@ -40,8 +40,14 @@ class _Parser(argparse.ArgumentParser):
         raise PitfallsInputError("command line", "", message, f"see `{self.prog} --help`")
 
 
+def _registry():
+    """The detector registry, imported when a command needs it (it loads numpy and scipy)."""
+    from pitfalls import detectors
+    return detectors
+
+
 def build_parser() -> argparse.ArgumentParser:
-    from pitfalls import detectors as registry
+    registry = _registry()
     parser = _Parser(prog="pitfalls", description=(
         "Screen seismic interpretation picks on a post-stack SEG-Y section for physical pitfalls "
         "(multiples, false fluid contacts, cross-cutting boundaries, pick errors)."))
@@ -56,6 +62,10 @@ def build_parser() -> argparse.ArgumentParser:
     scan.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
     scan.add_argument("--annotated-picks", metavar="FILE.csv", help="write the pick rows back with their findings")
     scan.add_argument("--figure", metavar="FILE.png", help="draw the section, picks and findings (needs matplotlib)")
+    scan.add_argument("--map", metavar="FILE.png",
+                      help="3-D: draw each horizon's time map with the findings' footprints (needs matplotlib)")
+    scan.add_argument("--geojson", metavar="FILE",
+                      help="write the findings' footprints as GeoJSON in the survey's CDP X/Y")
     scan.add_argument("--gate", choices=("high", "medium", "low", "off"), default="high",
                       help="exit 1 when a finding is at least this severe (default high; off: only a failed "
                            "detector exits 1)")
@@ -64,6 +74,8 @@ def build_parser() -> argparse.ArgumentParser:
     scan.add_argument("--2d", dest="force_2d", action="store_true", help="read the file as a 2-D line in trace order")
     scan.add_argument("--only", metavar="DETECTOR,...", help="run only these detectors: " + ", ".join(registry.BY_NAME))
     scan.add_argument("--quiet", action="store_true", help="print no report on stdout (files and exit code only)")
+    scan.add_argument("--jobs", type=int, metavar="N",
+                      help="worker processes for the blocks of a 3-D volume (default: the machine's cores)")
 
     describe = commands.add_parser("describe", help="measure the character of each interval between the picks and along each pick")
     describe.add_argument("section", metavar="SECTION", help="post-stack SEG-Y file (2-D line or 3-D volume)")
@@ -75,6 +87,18 @@ def build_parser() -> argparse.ArgumentParser:
     describe.add_argument("--iline-byte", type=int, metavar="N", help="trace-header byte of the inline number (default 189)")
     describe.add_argument("--xline-byte", type=int, metavar="N", help="trace-header byte of the crossline number (default 193)")
     describe.add_argument("--2d", dest="force_2d", action="store_true", help="read the file as a 2-D line in trace order")
+
+    project = commands.add_parser("project", help="scan every section of a project file and tie them where they cross")
+    project.add_argument("project", metavar="PROJECT.yaml", help="project file listing the sections and their picks")
+    project.add_argument("--format", choices=("terminal", "json", "markdown"), default="terminal")
+    project.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
+    project.add_argument("--gate", choices=("high", "medium", "low", "off"), default="high",
+                         help="exit 1 when a finding is at least this severe (default high; off never fails on findings)")
+    project.add_argument("--jobs", type=int, default=os.cpu_count() or 1, metavar="N",
+                         help="worker processes, or Dask workers with --scheduler local (default: the machine's cores)")
+    project.add_argument("--scheduler", metavar="ADDRESS|local",
+                         help="run the sections on the Dask scheduler at ADDRESS, or on a new local Dask cluster "
+                              '(needs pip install -e ".[dask]")')
 
     demo = commands.add_parser("demo", help="write the bundled demo scenario, then scan it")
     demo.add_argument("--out", metavar="DIR", default="pitfalls-demo", help="folder for the demo files (default ./pitfalls-demo)")
@@ -98,9 +122,8 @@ def write_atomically(path: str, text: str | bytes) -> None:
 
 
 def _load_rules(path: str | None):
-    from pitfalls import detectors as registry
     from pitfalls.io.rules import load_rules
-    return load_rules(path, registry.rule_keys())
+    return load_rules(path, _registry().rule_keys())
 
 
 def _render_text(result, fmt: str, width: int | None = None) -> str:
@@ -127,25 +150,20 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
         raise PitfallsInputError("--annotated-picks", "", "needs at least one --picks file", "add --picks FILE")
     check_run_paths(inputs={"SECTION": args.section, "--picks": args.picks, "--rules": args.rules},
                     outputs={"--output": args.output, "--annotated-picks": args.annotated_picks,
-                             "--figure": args.figure},
+                             "--figure": args.figure, "--map": args.map, "--geojson": args.geojson},
                     repeatable=("--picks",))
     rules, rules_path, rules_sha = _load_rules(args.rules)
-    if args.figure:
+    if args.figure or args.map:
         from pitfalls.report.figure import require_matplotlib
         require_matplotlib()
-    from rich.console import Console
-    progress_console = Console(stderr=True)
-    show_progress = sys.stderr.isatty()
-    if show_progress:
-        from rich.progress import Progress
-        with Progress(console=progress_console, transient=True) as bar:
-            task = bar.add_task("scanning", total=None)
-            result = scan(args.section, args.picks, rules, rules_path, rules_sha, only,
-                          _byte(args.iline_byte, 189), _byte(args.xline_byte, 193), args.force_2d,
-                          progress=lambda done, total: bar.update(task, completed=done, total=total))
+    jobs = _jobs(args.jobs)
+    options = dict(only=only, iline_byte=_byte(args.iline_byte, 189), xline_byte=_byte(args.xline_byte, 193),
+                   force_2d=args.force_2d, jobs=jobs)
+    if sys.stderr.isatty():
+        with _progress_bar() as progress:
+            result = scan(args.section, args.picks, rules, rules_path, rules_sha, progress=progress, **options)
     else:
-        result = scan(args.section, args.picks, rules, rules_path, rules_sha, only,
-                      _byte(args.iline_byte, 189), _byte(args.xline_byte, 193), args.force_2d)
+        result = scan(args.section, args.picks, rules, rules_path, rules_sha, **options)
     _emit(result, args.format, args.output, args.quiet, stdout)
     if args.annotated_picks:
         from pitfalls.report.annotated import render as render_annotated
@@ -153,6 +171,20 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.figure:
         from pitfalls.report.figure import draw
         write_atomically(args.figure, draw(result, rules))
+    if args.map:
+        if result.map_view is None:
+            raise PitfallsInputError("--map", "", f"{args.section} is a 2-D line; a map needs a 3-D volume",
+                                     "use --figure for a line")
+        from pitfalls.report.map_figure import draw_map
+        write_atomically(args.map, draw_map(result))
+    if args.geojson:
+        from pitfalls.report.geojson import feature_collection
+        if result.coordinates is None or not result.coordinates.from_headers:
+            raise PitfallsInputError(args.section, "trace header bytes 181/185",
+                                     "hold no CDP X/Y coordinates, so the findings have no place on a map",
+                                     "write the coordinates into the SEG-Y headers, or leave out --geojson")
+        collection = feature_collection(result.findings, result.coordinates, args.section)
+        write_atomically(args.geojson, json.dumps(collection, indent=1) + "\n")
     if result.failed or result.reaches(args.gate):
         return EXIT_FINDINGS
     return EXIT_OK
@@ -161,6 +193,40 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
 def _byte(given: int | None, default: int) -> int:
     """The header byte option, or its default when not given (0 is a value, refused by the reader)."""
     return default if given is None else given
+
+
+def _jobs(requested: int | None) -> int:
+    """Worker processes: as asked, else one per core the process may use."""
+    if requested is None:
+        try:
+            return max(1, len(os.sched_getaffinity(0)))
+        except AttributeError:  # platforms without CPU affinity
+            return max(1, os.cpu_count() or 1)
+    if requested < 1:
+        raise PitfallsInputError("--jobs", "", f"is {requested}", "give a whole number of worker processes, 1 or more")
+    return requested
+
+
+class _progress_bar:
+    """A transient progress bar on stderr: panels (inlines) done, samples per second, time left."""
+
+    def __enter__(self):
+        from rich.console import Console
+        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
+        self._bar = Progress(TextColumn("scanning"), BarColumn(), MofNCompleteColumn(), TextColumn("panels"),
+                             TextColumn("{task.fields[rate]}"), TimeRemainingColumn(),
+                             console=Console(stderr=True), transient=True)
+        self._bar.__enter__()
+        self._task = self._bar.add_task("scan", total=None, rate="")
+        return self
+
+    def __call__(self, done: int, total: int, samples: int = 0) -> None:
+        elapsed = self._bar.tasks[0].elapsed or 0.0
+        rate = f"{samples / elapsed / 1e6:.1f} Msamples/s" if samples and elapsed > 0 else ""
+        self._bar.update(self._task, completed=done, total=total, rate=rate)
+
+    def __exit__(self, *exc: object) -> None:
+        self._bar.__exit__(*exc)
 
 
 def _emit(result, fmt: str, output: str | None, quiet: bool, stdout: Console) -> None:
@@ -208,6 +274,41 @@ def _describe(args: argparse.Namespace, stdout: Console) -> int:
     return EXIT_OK
 
 
+def _project(args: argparse.Namespace, stdout: Console) -> int:
+    from pitfalls.io.project import read_project
+    from pitfalls.io.scheduler import open_runner
+    from pitfalls.project import run_project
+    from pitfalls.report import project as project_report
+    project = read_project(args.project)
+    rules, rules_path, rules_sha = _load_rules(project.rules_path)
+    check_run_paths(inputs={"PROJECT": args.project, "rules": project.rules_path,
+                            "section": [entry.path for entry in project.sections],
+                            "picks": [p for entry in project.sections for p in entry.pick_paths],
+                            "velocity": [entry.velocity_path for entry in project.sections if entry.velocity_path]},
+                    outputs={"--output": args.output})
+    with open_runner(args.jobs, args.scheduler) as runner:
+        result = run_project(project, rules, rules_path, rules_sha, runner)
+    if args.format == "json":
+        text = json.dumps(project_report.report_dict(result), indent=2) + "\n"
+    elif args.format == "markdown":
+        text = project_report.render_markdown(result)
+    else:
+        buffer = io.StringIO()
+        Console(file=buffer, width=120, color_system=None, force_terminal=False).print(
+            project_report.render_terminal(result))
+        text = buffer.getvalue()
+    if args.output:
+        write_atomically(args.output, text)
+    elif args.format == "terminal":
+        stdout.print(project_report.render_terminal(result))
+    else:
+        sys.stdout.write(text)
+        sys.stdout.flush()
+    if result.failed or result.reaches(args.gate):
+        return EXIT_FINDINGS
+    return EXIT_OK
+
+
 def _demo(args: argparse.Namespace, stdout: Console) -> int:
     from pitfalls.engine import scan
     from pitfalls.modelling.demo import write_demo
@@ -245,8 +346,7 @@ def _rules(args: argparse.Namespace) -> int:
 
 
 def _explain(args: argparse.Namespace, stdout: Console) -> int:
-    from pitfalls import detectors as registry
-    kinds = registry.finding_kinds()
+    kinds = _registry().finding_kinds()
     if args.list or not args.finding_id:
         for finding_id, (detector, (meaning, _, _)) in kinds.items():
             stdout.print(f"{finding_id:34s} {meaning}", highlight=False)
@@ -262,13 +362,17 @@ def _explain(args: argparse.Namespace, stdout: Console) -> int:
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; returns the exit code (also used by ``python -m pitfalls``)."""
+    arguments = sys.argv[1:] if argv is None else list(argv)
+    if arguments == ["--version"]:  # answered before numpy, scipy or rich are loaded
+        print(f"pitfalls {__version__}")
+        return EXIT_OK
     previous = _catch_sigterm()
     try:
         with warnings.catch_warnings():
             # stderr carries progress and the one error line only: numerical warnings from damaged
             # data are not the user's business (NaN results are handled where they are used).
             warnings.simplefilter("ignore", RuntimeWarning)
-            return _run(argv)
+            return _run(arguments)
     except PitfallsInputError as err:
         sys.stdout.flush()
         print(f"pitfalls: error: {err.one_line()}", file=sys.stderr)
@@ -284,18 +388,20 @@ def main(argv: Sequence[str] | None = None) -> int:
             signal.signal(signal.SIGTERM, previous)
 
 
-def _run(argv: Sequence[str] | None) -> int:
+def _run(arguments: Sequence[str]) -> int:
     import numpy as np
     from rich.console import Console
     with np.errstate(all="ignore"):
         stdout = Console(highlight=False)
-        args = build_parser().parse_args(argv)
+        args = build_parser().parse_args(arguments)
         if args.command == "scan":
             return _scan(args, stdout)
         if args.command == "describe":
             return _describe(args, stdout)
         if args.command == "demo":
             return _demo(args, stdout)
+        if args.command == "project":
+            return _project(args, stdout)
         if args.command == "rules":
             return _rules(args)
         if args.command == "explain":

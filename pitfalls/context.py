@@ -20,6 +20,7 @@ import numpy as np
 
 from pitfalls.model import Picks, Section
 from pitfalls.physics.dip import DipField, structure_tensor_dip
+from pitfalls.physics.envelope import envelope
 from pitfalls.physics.multiples import peak_amplitude, seafloor_dip_angle_deg, seafloor_multiple_band_twt_ms
 from pitfalls.physics.seafloor import Seafloor, dominant_frequency_hz, find_seafloor
 from pitfalls.physics.velocity import VelocityModel
@@ -79,12 +80,12 @@ class Context:
     @cached_property
     def envelope(self) -> np.ndarray:
         """Envelope (magnitude of the analytic signal, Hilbert transform along time) of every trace."""
-        from scipy.signal import hilbert
-        return np.abs(hilbert(self.live_data, axis=1))
+        return envelope(self.live_data, axis=1)
 
 
 def build_context(block: Section, picks: Picks, rules: Mapping[str, Any],
-                  velocity: VelocityModel | None = None) -> Context:
+                  velocity: VelocityModel | None = None, *, seafloor: Seafloor | None = None,
+                  seafloor_across_ms_per_m: np.ndarray | None = None) -> Context:
     """Measure once what the detectors share, for one panel.
 
     Parameters
@@ -97,14 +98,21 @@ def build_context(block: Section, picks: Picks, rules: Mapping[str, Any],
         The validated rules (sections ``seafloor``, ``multiples`` and ``contacts`` are read).
     velocity : VelocityModel, optional
         Defaults to the rules' velocity function.
+    seafloor : Seafloor, optional
+        The panel's seafloor when the engine has already picked it (it picks a volume's inlines
+        together, to measure the dip across them); picked here otherwise.
+    seafloor_across_ms_per_m : ndarray of shape (n_traces,), optional
+        On an inline of a volume, the gradient of the seafloor time across the inlines; with it the
+        multiple prediction uses the seafloor's true dip (both directions), not only its dip along
+        the inline. NaN entries count as no dip across.
     """
     velocity = VelocityModel.from_rules(rules) if velocity is None else velocity
-    seafloor = find_seafloor(block, picks, rules)
+    seafloor = find_seafloor(block, picks, rules) if seafloor is None else seafloor
     snap_ms = float(rules["seafloor"]["snap_ms"])
     peak, _ = peak_amplitude(np.nan_to_num(block.data, nan=0.0), block.t0_ms, block.dt_ms, seafloor.twt_ms, snap_ms)
     multiples = rules["multiples"]
     dip_deg = seafloor_dip_angle_deg(seafloor.twt_ms, block.trace_spacing_m, velocity.water_velocity_m_s,
-                                     int(multiples["dip_smoothing_traces"]))
+                                     int(multiples["dip_smoothing_traces"]), across_ms_per_m=seafloor_across_ms_per_m)
     predicted = tuple(SeafloorMultiple(n, *seafloor_multiple_band_twt_ms(seafloor.twt_ms, dip_deg, n))
                       for n in range(2, int(multiples["highest_multiplier"]) + 1))
     return Context(

@@ -45,6 +45,8 @@ class SectionInfo:
     """True when the spacing was measured from coordinates, False when the fallback was used."""
     notes: tuple[str, ...] = ()
     """Things about the file the interpreter should know (e.g. header disagreements)."""
+    coordinate_extent_xy: tuple[tuple[float, float], tuple[float, float]] | None = None
+    """``((x_min, y_min), (x_max, y_max))`` of the traces' CDP X/Y, scalar applied; None when the headers hold none."""
 
 
 @dataclass(frozen=True)
@@ -163,7 +165,9 @@ class Finding:
     inlines: tuple[int, int] | None = None
     """Inclusive inline range on a 3-D volume."""
     xlines: tuple[int, int] | None = None
-    """Inclusive crossline range on a 3-D volume."""
+    """Inclusive crossline range on a 3-D volume (crossline numbers from the trace headers)."""
+    footprint_xy: tuple[tuple[float, float], tuple[float, float]] | None = None
+    """``((x_min, y_min), (x_max, y_max))`` in CDP X/Y of the traces the finding covers; set by the engine."""
     evidence: Mapping[str, Any] = field(default_factory=dict)
     """Measured numbers, unit in the key name, plain unrounded float/int/str/bool."""
     score: float = 0.0

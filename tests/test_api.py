@@ -9,6 +9,7 @@ import shutil
 import subprocess
 import sys
 
+import jsonschema
 import numpy as np
 import pytest
 import segyio
@@ -19,8 +20,8 @@ from pitfalls.modelling.section import model_section
 from pitfalls.modelling.segy_writer import write_picks_csv, write_section_segy, write_volume_segy
 
 ROOT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
-DEMO_SEGY = os.path.join(ROOT, "demo_data", "QT24-117.sgy")
-DEMO_PICKS = os.path.join(ROOT, "demo_data", "QT24-117_picks.csv")
+DEMO_SEGY = os.path.join(ROOT, "demo_data", "OT25-117.sgy")
+DEMO_PICKS = os.path.join(ROOT, "demo_data", "OT25-117_picks.csv")
 
 
 def run_cli(*args, cwd=None):
@@ -109,6 +110,12 @@ def test_import_is_light_and_every_public_name_resolves():
     assert pitfalls.Finding.__name__ == "Finding" and issubclass(pitfalls.PitfallsInputError, Exception)
 
 
+def test_docstring_examples_run():
+    import doctest
+    outcome = doctest.testmod(pitfalls, optionflags=doctest.ELLIPSIS)
+    assert outcome.failed == 0 and outcome.attempted >= 1
+
+
 @pytest.mark.parametrize("name", ["scan", "load_rules", "explain", "finding_ids"])
 def test_public_functions_have_numpydoc_sections(name):
     doc = getattr(pitfalls, name).__doc__
@@ -157,6 +164,8 @@ def test_numpy_line_with_pick_columns_matches_the_same_data_as_segy(line):
     assert memory.section.path == "(in memory)" and re.fullmatch("[0-9a-f]{64}", memory.section.sha256)
     assert any(f.id == "pick.cycle-skip" and f.horizon == "Sand top" for f in memory.findings)
     memory_json, file_json = json.loads(memory.to_json()), json.loads(from_file.to_json())
+    with open(os.path.join(ROOT, "pitfalls", "data", "report.schema.json"), encoding="utf-8") as handle:
+        jsonschema.validate(memory_json, json.load(handle))
     for document in (memory_json, file_json):
         document.pop("section"), document.pop("detectors")
     assert memory_json == file_json
@@ -356,7 +365,7 @@ def test_html_lists_every_finding_in_rank_order_and_the_caution(demo_report):
     page = demo_report._repr_html_()
     rows = re.findall(r"<tr><td>(\d+)</td><td>(\w+)</td><td>([a-z0-9.-]+)</td>", page)
     assert rows == [(str(f.rank), f.severity, f.id) for f in demo_report.findings]
-    assert "does not replace review" in page and "QT24-117.sgy" in page
+    assert "does not replace review" in page and "OT25-117.sgy" in page
 
 
 def test_figure_is_a_matplotlib_figure_of_an_array(line):
@@ -393,7 +402,7 @@ def test_readme_examples_run(volume, tmp_path, monkeypatch, capsys):
     monkeypatch.chdir(ROOT)
     exec(compile(on_demo, "README example on the demo files", "exec"), {})
     printed = capsys.readouterr().out
-    assert "<pitfalls.Report demo_data/QT24-117.sgy:" in printed and "What to check:" in printed
+    assert "<pitfalls.Report demo_data/OT25-117.sgy:" in printed and "What to check:" in printed
     assert "a high finding: look before the hand-over" in printed
     # the volume example names survey.sgy: give it the modelled volume under that name
     shutil.copyfile(volume["segy"], tmp_path / "survey.sgy")
@@ -402,3 +411,21 @@ def test_readme_examples_run(volume, tmp_path, monkeypatch, capsys):
     printed = capsys.readouterr().out
     assert printed.startswith("# pitfalls scan") and "(in memory) (3D, 3 inlines x 40 crosslines" in printed
     assert "Rules: rules mapping" in printed
+
+
+def test_array_volume_in_worker_processes_matches_one_process(volume):
+    """The array source pickles into worker processes; any number of them gives the same report."""
+    import pickle
+
+    from pitfalls import engine
+    from pitfalls.io.array import ArraySource
+    from pitfalls.io.picks import read_pick_file
+    rules = pitfalls.load_rules()
+    source = ArraySource(volume["data"], dt_ms=DT_MS, fallback_spacing_m=12.5, inline_numbers=volume["inlines"],
+                         xline_numbers=volume["xlines"])
+    copy = pickle.loads(pickle.dumps(source.reader()))
+    np.testing.assert_array_equal(copy.read_block(1, 3).panels[1].data, source.read_block(1, 3).panels[1].data)
+    picks = [read_pick_file(volume["picks"])]
+    runs = [engine.scan_source(source, picks, rules.to_dict(), rules.path, rules.sha256, engine.select_detectors(None),
+                               jobs=jobs, inlines_per_block=1) for jobs in (1, 2)]
+    assert [f.rank for f in runs[0].findings] and runs[0].findings == runs[1].findings

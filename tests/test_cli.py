@@ -8,6 +8,7 @@ import sys
 import numpy as np
 import pytest
 
+from pitfalls import __version__
 from segy_files import write_segy
 
 N_TRACES, N_SAMPLES, DT_MS = 80, 400, 2.0
@@ -254,3 +255,17 @@ def test_two_d_and_byte_options_conflict(line):
 
 def test_usage_error_is_one_line():
     assert_one_line_error(pitfalls("scan"), "SECTION")
+
+
+def test_version_is_answered_before_numpy_scipy_or_rich_load():
+    code = ("import sys\nfrom pitfalls.cli import main\nassert main(['--version']) == 0\n"
+            "print(sorted(m for m in ('numpy', 'scipy', 'rich', 'segyio') if m in sys.modules))\n")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True)
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.splitlines() == [f"pitfalls {__version__}", "[]"]
+
+
+def test_jobs_must_be_a_positive_number(line, skipped_picks):
+    result = pitfalls("scan", line, "--picks", skipped_picks, "--jobs", "0")
+    assert result.returncode == 2 and result.stdout == ""
+    assert result.stderr.count("\n") == 1 and "--jobs" in result.stderr and "Traceback" not in result.stderr

@@ -6,6 +6,7 @@ import numpy as np
 import pytest
 
 import pitfalls.context as context_module
+import pitfalls.engine as engine_module
 from pitfalls import detectors
 from pitfalls.context import build_context
 from pitfalls.engine import scan
@@ -53,8 +54,10 @@ def test_seafloor_is_picked_once_per_panel_for_the_whole_scan(volume, rules, mon
         calls.append(section.inline_number)
         return find_seafloor(section, picks, rules_)
     monkeypatch.setattr(context_module, "find_seafloor", counting)
+    monkeypatch.setattr(engine_module, "find_seafloor", counting)  # a volume's inlines are picked by the engine
     result = scan(str(volume), [], *rules)  # every detector
     assert [run.status for run in result.detectors] == ["ran"] * len(detectors.DETECTORS)
+    # One block holds the whole small volume, so no inline is read twice as a neighbour of another block.
     assert calls == [7, 8, 9]
 
 

@@ -99,15 +99,15 @@ def test_a_wheel_installed_in_a_fresh_environment_scans_the_demo_from_another_fo
     assert where.returncode == 0, where.stderr
     assert pathlib.Path(where.stdout.strip()).resolve().is_relative_to((tmp_path / "environment").resolve())
 
-    for name in ("QT24-117.sgy", "QT24-117_picks.csv"):
+    for name in ("OT25-117.sgy", "OT25-117_picks.csv"):
         shutil.copy2(ROOT / "demo_data" / name, elsewhere / name)
     command = str(bin_folder / "pitfalls")
-    scanned = _run([command, "scan", "QT24-117.sgy", "--picks", "QT24-117_picks.csv", "--format", "json"], elsewhere)
+    scanned = _run([command, "scan", "OT25-117.sgy", "--picks", "OT25-117_picks.csv", "--format", "json"], elsewhere)
     assert scanned.returncode == 1 and not scanned.stderr, scanned.stderr  # 1: planted mistakes reach the gate
     report = json.loads(scanned.stdout)
     assert report["summary"]["high"] >= 1
     assert report["rules"]["path"] == "built-in defaults"
-    assert report["section"]["path"] == "QT24-117.sgy"
+    assert report["section"]["path"] == "OT25-117.sgy"
     assert report["findings"] and report["caution"]
     assert str(tmp_path) not in scanned.stdout  # no path the user did not type
 

@@ -78,12 +78,12 @@ from typing import Any, Mapping
 
 import numpy as np
 from scipy.ndimage import gaussian_filter1d, label
-from scipy.stats import theilslopes
 
 from pitfalls.context import Context
 from pitfalls.model import Finding, Horizon, Picks, Section
 from pitfalls.physics.dip import DipField
 from pitfalls.physics.hydrodynamics import hubbert_head_gradient_m_per_km, tilt_angle_deg
+from pitfalls.physics.robust import theil_sen_slope
 from pitfalls.physics.seafloor import amplitude_at
 from pitfalls.physics.velocity import VelocityModel
 
@@ -103,11 +103,13 @@ KINDS = {
         "Map the contact in depth; check that the velocity model is the one used for the field.",
     ),
     "tilted": (
-        "The contact tilts in depth beyond what a static aquifer allows.",
-        "A tilt needs moving water (Hubbert 1953), a velocity error, or a miscorrelation; "
-        "each changes the volume and where a well should go.",
-        "Look for a velocity anomaly above; check pressure data for a potentiometric gradient; "
-        "re-check the correlation of the flat event across the structure.",
+        "The contact tilts in depth by more than the rules allow; over a static aquifer a contact is level.",
+        "A real tilt needs flowing water (Hubbert 1953) or a change in capillary entry pressure or reservoir "
+        "quality along the contact; separate fault compartments with their own contacts, a depth-conversion "
+        "(velocity) error or a miscorrelation look the same. Each changes the volume and where a well should go.",
+        "Check the depth conversion for a velocity anomaly above; look for faults that could split the contact "
+        "into compartments; compare reservoir quality along it; check pressure data for a potentiometric "
+        "gradient; re-check the correlation of the flat event across the structure.",
     ),
     "polarity": (
         "The contact reflection has the opposite sign to the seafloor.",
@@ -116,9 +118,12 @@ KINDS = {
         "Check which phase was picked; consider a hydrate base, a diagenetic front or a lithological boundary instead.",
     ),
     "outside-closure": (
-        "The contact runs outside the closure of the reservoir top above it.",
-        "Fluid cannot stand below the spill point or outside the trap; the volume or the trap is wrong.",
-        "Re-check the reservoir top and its spill point; check whether the event belongs to another trap or is not a contact.",
+        "The contact runs outside the closure of the reservoir top above it, as far as this line shows the closure.",
+        "Fluid cannot stand below the spill point or outside the trap; the volume or the trap is wrong. On a 2-D "
+        "line the spill point is only the lowest closing point seen on that line: the structure may spill "
+        "elsewhere, deeper or shallower, off the line.",
+        "Re-check the reservoir top and its spill point on a map or on crossing lines; check whether the event "
+        "belongs to another trap or is not a contact.",
     ),
     "unpicked-flat-event": (
         "A coherent flat event cuts across dipping strata and is not picked.",
@@ -172,10 +177,11 @@ ADVICE = {
     ),
     "tilted": (
         "Converted to depth, this contact is not level. Before accepting a hydrodynamic tilt, look for an "
-        "unmodelled velocity anomaly above it (gas, a channel fill, a carbonate build-up) and check the "
-        "correlation of the flat event across the structure. If it still tilts, pressure data from wells should "
-        "show the potentiometric gradient quoted in the evidence; a gradient above the plausible limit points to "
-        "a velocity or picking problem rather than flow."
+        "unmodelled velocity anomaly above it (gas, a channel fill, a carbonate build-up), for faults that could "
+        "split it into compartments with different contacts, and for changes in reservoir quality that move the "
+        "contact through capillary pressure; check the correlation of the flat event across the structure. If it "
+        "still tilts, pressure data from wells should show the potentiometric gradient quoted in the evidence; a "
+        "gradient above the plausible limit points to a velocity, compartment or picking problem rather than flow."
     ),
     "polarity": (
         "A lighter fluid over water raises impedance downward, so its reflection should have the seafloor's "
@@ -185,9 +191,10 @@ ADVICE = {
     ),
     "outside-closure": (
         "Part of this contact lies where no trap can hold fluid: below the spill point of the reservoir top, "
-        "above its crest, or where the top is below it. Re-check the reservoir top pick and its spill point on "
-        "neighbouring lines; if both stand, the event is either in another trap or not a contact, and the "
-        "volume computed from it is wrong."
+        "above its crest, or where the top is below it. On a 2-D line the spill point is only the lowest closing "
+        "point this line shows; the structure's real spill point may lie off the line. Re-check the reservoir top "
+        "pick and its spill point on a map or on neighbouring lines; if both stand, the event is either in another "
+        "trap or not a contact, and the volume computed from it is wrong."
     ),
     "unpicked-flat-event": (
         "A coherent flat event cuts across dipping beds here and nobody has picked it. Look at it: a fluid contact "
@@ -257,7 +264,7 @@ def _theil_sen(x: np.ndarray, y: np.ndarray) -> float:
     """Theil-Sen slope (Sen 1968), robust to outlying picks; 0 when x does not vary."""
     if np.ptp(x) == 0:
         return 0.0
-    return float(theilslopes(y, x).slope)
+    return theil_sen_slope(x, y)
 
 
 def _numbers(section: Section, first_index: int, last_index: int) -> tuple[int, int]:
@@ -661,7 +668,7 @@ def _unpicked_flat_events(section: Section, picks: Picks, field: DipField, inter
         seafloor_here_ms = seafloor_twt_ms[trace_index]
         ratio = twt_ms[seafloor_here_ms > 0] / seafloor_here_ms[seafloor_here_ms > 0]
         order = int(np.rint(np.median(ratio))) if ratio.size else 0
-        # order-n surface multiple of the seafloor arrives at n x t_sf (REFERENCES item 1)
+        # order-n surface multiple of the seafloor arrives at n x t_sf (flat-layer rule, common practice)
         multiple_misfit_ms = float(np.median(np.abs(twt_ms - order * seafloor_here_ms))) if order >= 2 else np.inf
         on_multiple = multiple_misfit_ms <= settings["stratal_exclude_ms"]
         evidence = {

@@ -128,8 +128,8 @@ FAMILY = "crosscut"
 KINDS = {
     "hydrate-like": (
         "A coherent event keeps a near-constant time below the seafloor, cuts the dipping strata and has the reverse polarity of the seafloor.",
-        "It looks like the base of gas-hydrate stability (hydrate over free gas), not bedding: mapped as a horizon it makes false unconformities and closures.",
-        "Compare its depth with the predicted stability base and the gradient in the evidence; look for brighter reflections and dimming below it; do not correlate strata along it.",
+        "It looks like the base of gas-hydrate stability (hydrate over free gas), a pressure-temperature boundary that lies deeper below the seafloor where the water is deeper, not bedding: mapped as a horizon it makes false unconformities and closures.",
+        "Compare its depth with the predicted stability base and the gradient in the evidence; look for bright free-gas reflections and attenuation below it and blanking above it; do not correlate strata along it.",
     ),
     "diagenetic-like": (
         "A coherent event keeps a near-constant time below the seafloor, cuts the dipping strata and has the same polarity as the seafloor.",
@@ -257,7 +257,7 @@ def _search_events(section: Section, seafloor: Seafloor, velocity: VelocityModel
 
 def _is_peg_leg(event: SeafloorParallelEvent, parent: SeafloorParallelEvent, seafloor_twt_ms: np.ndarray,
                 half_width_ms: float) -> bool:
-    """True when most of ``event`` lies one seafloor time below ``parent`` (t_r + t_sf, REFERENCES item 1)."""
+    """True when most of ``event`` lies one seafloor time below ``parent`` (t_r + t_sf, Backus 1959)."""
     shared, in_event, in_parent = np.intersect1d(event.trace_index, parent.trace_index, return_indices=True)
     if shared.size < 0.5 * event.trace_index.size or half_width_ms <= 0:
         return False
@@ -331,10 +331,10 @@ def _event_finding(event: SeafloorParallelEvent, section: Section, seafloor: Sea
         confidence += 0.25
     first, last = int(traces[0]), int(traces[-1])
     absolute = seafloor_twt + below_ms
-    polarity_words = "reversed" if polarity < 0 else "the same"
+    polarity_words = "the opposite polarity to" if polarity < 0 else "the same polarity as"
     title = (f"Event {median_below_ms:.0f} ms below the seafloor over traces {section.trace_numbers[first]}-"
-             f"{section.trace_numbers[last]} cuts the strata at {angle_deg:.1f} deg with {polarity_words} polarity "
-             f"to the seafloor")
+             f"{section.trace_numbers[last]} cuts the strata at {angle_deg:.1f} deg with {polarity_words} "
+             f"the seafloor")
     return Finding(
         id=f"{FAMILY}.{kind}",
         detector=NAME,

@@ -353,20 +353,19 @@ def _horizon_findings(horizon: Horizon, candidate_sets, shared) -> list[Finding]
             expected = np.stack([m[5] for m in members])[chosen, matched]
             names = [members[c][4] for c in chosen]
             upper_names = [members[c][6] for c in chosen]
-            proposals.append(_measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low[matched],
-                                      high[matched], misfit[matched], generator_twt, generator_amplitude,
-                                      expected, names, upper_names, shared))
+            proposals.append((_measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low[matched],
+                                       high[matched], misfit[matched], generator_twt, generator_amplitude,
+                                       expected, names, upper_names, shared), (int(matched[0]), int(matched[-1]))))
     # strongest first; at equal severity a seafloor multiple explains a run more simply than a
     # peg-leg of another pick that is itself a multiple, and a peg-leg more simply than an interbed
-    proposals.sort(key=lambda f: (SEVERITY_ORDER[f.severity], KIND_PREFERENCE[f.id.split(".")[1]], f.confidence),
-                   reverse=True)
-    kept: list[Finding] = []
-    for finding in proposals:
-        a, b = finding.traces
-        overlap = max((min(b, k.traces[1]) - max(a, k.traces[0]) + 1 for k in kept), default=0)
+    proposals.sort(key=lambda p: (SEVERITY_ORDER[p[0].severity], KIND_PREFERENCE[p[0].id.split(".")[1]],
+                                  p[0].confidence), reverse=True)
+    kept: list[tuple[Finding, tuple[int, int]]] = []
+    for finding, (a, b) in proposals:  # overlap counted in panel traces, whatever their numbering
+        overlap = max((min(b, span[1]) - max(a, span[0]) + 1 for _, span in kept), default=0)
         if overlap <= 0.5 * (b - a + 1):
-            kept.append(finding)
-    return kept
+            kept.append((finding, (a, b)))
+    return [finding for finding, _ in kept]
 
 
 def _measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low, high, misfit, generator_twt,
@@ -464,6 +463,9 @@ def _measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low, high
         evidence["seafloor_reflection_coefficient_implied"] = implied
         evidence["seafloor_reflection_coefficient_plausible"] = plausible
         evidence["gain_exponent_assumed"] = float(gain)
+        evidence["seafloor_reflection_coefficient_basis"] = (
+            "qualitative: assumes the stated gain; a stack's real gain (AGC, spreading correction, demultiple) "
+            "is unknown")
         f_amplitude = 1.0 if plausible else 0.0
     elif ratio.size:
         evidence["amplitude_ratio"] = float(np.median(ratio))
@@ -482,7 +484,8 @@ def _measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low, high
     evidence["contradictions"] = ",".join(contradictions) if contradictions else "none"
     severity = _severity(confidence, settings, bool(contradictions))
 
-    first, last = int(matched[0]) + 1, int(matched[-1]) + 1
+    section = shared["section"]
+    first, last = int(section.trace_numbers[matched[0]]), int(section.trace_numbers[matched[-1]])
     name = horizon.name
     if kind == "seafloor":
         title = (f"{name} follows the predicted {ORDINALS.get(multiplier, f'{multiplier - 1}th')} seafloor multiple "
@@ -608,12 +611,13 @@ def _periodic_findings(section: Section, periodicity: _Periodicity, settings: Ma
             "traces_above_threshold": int(covered.size),
             "fraction_of_section": float(covered.size / section.n_traces),
         }
+        first_number, last_number = int(section.trace_numbers[first]), int(section.trace_numbers[last])
         title = (f"The section reverberates at the seafloor period (strength {median_strength:.2f}) over traces "
-                 f"{first + 1}-{last + 1}, {window_start_ms:.0f}-{window_end_ms:.0f} ms")
+                 f"{first_number}-{last_number}, {window_start_ms:.0f}-{window_end_ms:.0f} ms")
         advice = ("Events in this window repeat one seafloor period later with reversed sign. Ask whether "
                   "demultiple processing was applied, and before mapping a continuous event here, check that "
                   "it is not the seafloor or a shallow reflector repeated; compare near- and far-offset stacks.")
         findings.append(Finding(id=f"{FAMILY}.periodic", detector=NAME, severity=severity, confidence=confidence,
-                                title=title, advice=advice, horizon=None, traces=(first + 1, last + 1),
+                                title=title, advice=advice, horizon=None, traces=(first_number, last_number),
                                 twt_ms=(window_start_ms, window_end_ms), evidence=evidence))
     return findings

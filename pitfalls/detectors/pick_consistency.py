@@ -22,8 +22,11 @@ Polarity flip: the sign of the sample at each pick (strongest sample within
 least ``min_amplitude_fraction`` of the horizon's median absolute amplitude (a pick on a
 zero crossing is not a flip). Runs of at least ``min_run_traces`` reversed traces are
 reported: medium from ``medium_min_traces`` traces on, low below that (short flips are
-mostly interference with a crossing event). Confidence is the run's share of reversed
-samples times a term that grows with the amplitude ratio.
+mostly interference with a crossing event). A flip is put as a question, not called a
+picking error: gas below a reservoir top reverses its reflection. Where a picked contact lies
+below the horizon on at least half of the flip's traces, the flip is graded low and its
+evidence names the contact. Confidence is the run's share of reversed samples times a term
+that grows with the amplitude ratio.
 
 References
 ----------
@@ -51,9 +54,9 @@ KINDS = {
         "Follow the same peak or trough across the jump on the section; check whether a fault there is real; re-pick the stretch on one phase.",
     ),
     "polarity-flip": (
-        "The sample at the pick changes sign (peak here, trough there) over a stretch of traces.",
-        "Either the pick has moved to another reflector, or the reflection really changes polarity (fluid, tuning, lithology), which is itself worth naming.",
-        "Look at the waveform along the horizon at the flip; if the event is the same, pick one phase throughout; if polarity truly reverses, look for a fluid or tuning cause.",
+        "The sample at the pick changes sign (peak here, trough there) over a stretch of traces: has the pick moved to another reflector, or does the reflection itself reverse?",
+        "A flip is not always a picking error: gas below a top reverses its reflection, and tuning or a lithology change can too. A pick that moved to another reflector misplaces the map; a real reversal is itself worth naming. A flip over a picked contact is graded one step lower, since a fluid is the likelier cause there.",
+        "Look at the waveform along the horizon at the flip; if the event is the same and the polarity truly reverses, name the cause (a gas or fluid effect, tuning, lithology); if the pick has moved, re-pick one phase throughout.",
     ),
 }
 RULE_KEYS = {
@@ -81,7 +84,8 @@ def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, A
         if np.isfinite(frequency_hz) and frequency_hz > 0:
             findings.extend(_cycle_skips(section, horizon, 1000.0 / frequency_hz, settings))
         if horizon.kind != "seafloor":
-            findings.extend(_polarity_flips(section, horizon, settings))
+            contacts = [other for other in picks.of_kind("contact") if other is not horizon]
+            findings.extend(_polarity_flips(section, horizon, contacts, settings))
     return findings
 
 
@@ -138,7 +142,19 @@ def _cycle_skips(section: Section, horizon: Horizon, period_ms: float, settings:
     return findings
 
 
-def _polarity_flips(section: Section, horizon: Horizon, settings: Mapping[str, Any]) -> list[Finding]:
+def _contact_below(horizon: Horizon, contacts: list[Horizon], stretch: slice) -> str | None:
+    """The picked contact lying below the horizon on at least half of the stretch, if any (a fluid there
+    can reverse the horizon's reflection)."""
+    n_traces = stretch.stop - stretch.start
+    for contact in contacts:
+        below = np.isfinite(contact.twt_ms[stretch]) & (contact.twt_ms[stretch] > horizon.twt_ms[stretch])
+        if np.count_nonzero(below) >= 0.5 * n_traces:
+            return contact.name
+    return None
+
+
+def _polarity_flips(section: Section, horizon: Horizon, contacts: list[Horizon],
+                    settings: Mapping[str, Any]) -> list[Finding]:
     amplitude = amplitude_at(section, horizon.twt_ms, settings["snap_ms"])
     strong = np.abs(amplitude) >= settings["min_amplitude_fraction"] * np.nanmedian(np.abs(amplitude))
     usual = majority_sign(amplitude[strong])
@@ -154,13 +170,20 @@ def _polarity_flips(section: Section, horizon: Horizon, settings: Mapping[str, A
         severity = "medium" if last - first + 1 >= settings["medium_min_traces"] else "low"
         first_number, last_number = int(section.trace_numbers[first]), int(section.trace_numbers[last])
         times = horizon.twt_ms[stretch][np.isfinite(horizon.twt_ms[stretch])]
+        evidence = {"horizon_polarity": usual, "reversed_fraction": share, "n_traces": last - first + 1,
+                    "amplitude_ratio_to_rest": ratio}
+        contact = _contact_below(horizon, contacts, stretch)
+        if contact is None:
+            title = (f"Has {horizon.name} moved to another reflector over traces {first_number}-{last_number}? "
+                     "Its pick there has the opposite polarity to the rest of the horizon")
+        else:
+            severity = "low"  # one step below medium: a fluid under the horizon is the likelier cause
+            evidence["over_picked_contact"] = contact
+            title = (f"{horizon.name} reverses polarity over traces {first_number}-{last_number}, above the picked "
+                     f"contact {contact}: a fluid effect (gas reverses a top) or a move to another reflector?")
         findings.append(Finding(
             id="pick.polarity-flip", detector=NAME, severity=severity, confidence=confidence,
-            title=(f"{horizon.name} is picked on the opposite polarity to the rest of the horizon "
-                   f"over traces {first_number}-{last_number}"),
-            advice=KINDS["polarity-flip"][2], horizon=horizon.name, traces=(first_number, last_number),
-            twt_ms=(float(times.min()), float(times.max())),
-            evidence={"horizon_polarity": usual, "reversed_fraction": share, "n_traces": last - first + 1,
-                      "amplitude_ratio_to_rest": ratio},
+            title=title, advice=KINDS["polarity-flip"][2], horizon=horizon.name, traces=(first_number, last_number),
+            twt_ms=(float(times.min()), float(times.max())), evidence=evidence,
         ))
     return findings

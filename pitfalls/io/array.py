@@ -6,8 +6,9 @@ the time of the first sample in ms, the trace numbers of a line (default 1..n) o
 and crossline numbers of a volume (default 1..n each), and optionally the traces' X/Y
 coordinates in metres or the trace spacing.
 
-The source offers what the SEG-Y reader offers (``info``, ``layout``, ``n_panels``, ``blocks()``,
-``panels()``, ``inline_panel()``), so the scan cannot tell a file from an array. Like a file's, the array is
+The source offers what the SEG-Y reader offers (``info``, ``layout`` with the coordinates when
+given, ``n_panels``, ``read_block()``, ``blocks()``, ``panels()``, ``inline_panel()``, ``reader()``
+for worker processes), so the scan cannot tell a file from an array. Like a file's, the array is
 never changed: panels are float32 copies.
 
 Checks, each a :class:`PitfallsInputError` naming the argument and what to fix: the shape, a
@@ -23,6 +24,7 @@ an optional extra.
 from __future__ import annotations
 
 import hashlib
+from dataclasses import replace
 from typing import Any, Iterator, Sequence
 
 import numpy as np
@@ -154,6 +156,7 @@ class ArraySource:
                        else _numbers(trace_numbers, n_traces, "trace_numbers", name))
             ilines = np.ones(n_traces, dtype=np.int64)
             self.layout = TraceLayout("2d", n_traces, numbers, ilines, numbers.copy())
+            order = np.arange(n_traces)
             flat_shape: tuple[int, ...] = (n_traces,)
             shape = (1, n_traces)
             n_missing = 0
@@ -170,6 +173,7 @@ class ArraySource:
                 trace_il = np.repeat(il, n_xl)
                 trace_xl = np.tile(xl, n_il)
                 self.layout = TraceLayout("2d", n_traces, np.arange(1, n_traces + 1), trace_il, trace_xl)
+                order = np.arange(n_traces)
                 shape = (1, n_traces)
                 n_missing = 0
             else:
@@ -184,13 +188,23 @@ class ArraySource:
                 n_missing = int(n_il * n_xl - n_traces)
                 if n_missing:
                     notes.append(f"{n_missing} inline/crossline positions have no live sample; they are treated as no data")
+        if coordinates is not None:  # per trace, in trace order, for the findings' map footprints
+            x, y = _coordinates(coordinates, flat_shape, name)
+            keep = (self.layout.grid >= 0).ravel() if self.layout.geometry == "3d" else slice(None)
+            trace_x, trace_y = np.asarray(x, float).ravel()[keep], np.asarray(y, float).ravel()[keep]
+            if np.any(trace_x != 0) or np.any(trace_y != 0):
+                self.layout = replace(self.layout, trace_x=trace_x, trace_y=trace_y)
+        if coordinates is not None:
+            x, y = _coordinates(coordinates, flat_shape, name)
+            self.layout = replace(self.layout, trace_x=x.reshape(-1)[order], trace_y=y.reshape(-1)[order])
         spacing_m, measured = self._spacing(trace_spacing_m, coordinates, flat_shape, fallback_spacing_m, name)
         if not measured:
             notes.append(f"no coordinates or trace spacing given; trace spacing {fallback_spacing_m:g} m from the rules")
         self.info = SectionInfo(
             path=name, sha256=array_sha256(array), geometry=self.layout.geometry, n_traces=n_traces,
             n_samples=n_samples, dt_ms=self._dt_ms, t0_ms=self._t0_ms, n_inlines=shape[0], n_xlines=shape[1],
-            n_missing_traces=n_missing, trace_spacing_m=spacing_m, spacing_from_headers=measured, notes=tuple(notes))
+            n_missing_traces=n_missing, trace_spacing_m=spacing_m, spacing_from_headers=measured, notes=tuple(notes),
+            coordinate_extent_xy=self.layout.footprint_xy())
 
     def _spacing(self, spacing_m: float | None, coordinates: Any, shape: tuple[int, ...], fallback_m: float,
                  name: str) -> tuple[float, bool]:
@@ -260,6 +274,14 @@ class ArraySource:
     def inline_panel(self, inline_index: int) -> Section:
         """One inline of a volume as a panel, NaN where a position has no trace."""
         return self.read_block(inline_index, inline_index + 1).panels[0]
+
+    def reader(self) -> "ArraySource":
+        """The block reader for worker processes: this source itself (pickled with its array)."""
+        return self
+
+    def reader(self) -> "ArraySource":
+        """The block reader for worker processes: the source itself, which pickles with its array."""
+        return self
 
     def close(self) -> None:
         """Nothing to release; kept so the scan can treat every source alike."""

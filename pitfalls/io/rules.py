@@ -83,6 +83,12 @@ CORE_KEYS: dict[str, dict[str, tuple[type, float | None, float | None]]] = {
         # Findings their detector rates below this confidence are not reported.
         "min_confidence": (float, 0.0, 1.0),
     },
+    "maps": {
+        "min_boundary_inlines": (int, 1, 100000),
+        "inline_extent_share": (float, 0.05, 1.0),
+        "conformable_max_residual_share": (float, 0.0, 1.0),
+        "conformable_min_relief_m": (float, 0.0, 10000.0),
+    },
     "describe": {
         # `pitfalls describe` (see pitfalls/describe.py); lengths in dominant periods.
         "guard_periods": (float, 0.0, 5.0),

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import hashlib
 import os
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Iterator
 
 import numpy as np
@@ -67,6 +67,31 @@ class TraceLayout:
     inline_numbers: np.ndarray = field(default_factory=lambda: np.empty(0, dtype=np.int64))
     xline_numbers: np.ndarray = field(default_factory=lambda: np.empty(0, dtype=np.int64))
     grid: np.ndarray = field(default_factory=lambda: np.empty((0, 0), dtype=np.int64))
+    trace_x: np.ndarray | None = None
+    """CDP X of each trace in file order, coordinate scalar applied; None when the headers hold none."""
+    trace_y: np.ndarray | None = None
+    """CDP Y of each trace in file order, coordinate scalar applied; None when the headers hold none."""
+
+    def footprint_xy(self, traces: tuple[int, int] | None = None, inlines: tuple[int, int] | None = None,
+                     xlines: tuple[int, int] | None = None) -> tuple[tuple[float, float], tuple[float, float]] | None:
+        """CDP X/Y extent ``((x_min, y_min), (x_max, y_max))`` of a trace range (a line) or of an
+        inline/crossline range (a volume, by line numbers); None without coordinates or traces there."""
+        if self.trace_x is None or self.trace_y is None:
+            return None
+        if self.geometry == "3d" and inlines is not None:
+            rows = (self.inline_numbers >= inlines[0]) & (self.inline_numbers <= inlines[1])
+            columns = (np.ones(len(self.xline_numbers), dtype=bool) if xlines is None else
+                       (self.xline_numbers >= xlines[0]) & (self.xline_numbers <= xlines[1]))
+            chosen = self.grid[np.ix_(rows, columns)]
+            chosen = chosen[chosen >= 0]
+        elif traces is not None:
+            chosen = np.arange(max(traces[0], 1) - 1, min(traces[1], self.n_traces))
+        else:
+            chosen = np.arange(self.n_traces)
+        if chosen.size == 0:
+            return None
+        x, y = self.trace_x[chosen], self.trace_y[chosen]
+        return (float(x.min()), float(y.min())), (float(x.max()), float(y.max()))
 
 
 class SeismicFile:
@@ -93,8 +118,6 @@ class SeismicFile:
                                      "give the path of a SEG-Y file")
         raw = check_layout(self.path)
         self.endian = raw.endian
-        self._state = np.zeros(raw.n_traces, dtype=np.int8)
-        self._bad_samples = np.zeros(raw.n_traces, dtype=np.int64)
         try:
             self._file = segyio.open(self.path, "r", ignore_geometry=True, endian=raw.endian)
         except (RuntimeError, ValueError, OSError, IndexError) as err:
@@ -104,6 +127,8 @@ class SeismicFile:
             ) from err
         try:
             self._describe(fallback_spacing_m, iline_byte, xline_byte, force_2d)
+            self._check_live_data()
+            self._reader = SegyBlockReader(self.path, self.info, self.layout, handle=self._file, endian=self.endian)
         except PitfallsInputError:
             self._file.close()
             raise
@@ -154,6 +179,7 @@ class SeismicFile:
         xlines = _read_header_field(handle, xline_byte, self.path)
         self.layout = self._layout(n_traces, inlines, xlines, force_2d, iline_byte, xline_byte)
         spacing_m, measured = self._trace_spacing(fallback_spacing_m)
+        extent = self.layout.footprint_xy()
         if not measured:
             notes.append(f"no usable CDP X/Y coordinates; trace spacing {fallback_spacing_m:g} m from the rules")
         if self.layout.geometry == "3d":
@@ -168,7 +194,42 @@ class SeismicFile:
             n_traces=n_traces, n_samples=n_samples, dt_ms=dt_ms, t0_ms=t0_ms,
             n_inlines=shape[0], n_xlines=shape[1], n_missing_traces=n_missing,
             trace_spacing_m=spacing_m, spacing_from_headers=measured, notes=tuple(notes),
+            coordinate_extent_xy=extent,
         )
+
+    def _check_live_data(self) -> None:
+        """Read every trace once, in slices, to count dead traces and non-finite samples before any work.
+
+        A trace is dead when it has no finite, nonzero sample. A file with no live trace is refused
+        (exit 2); otherwise the report's notes say how much was dead, and the block reader hands
+        dead traces to the checks as no data (NaN), as missing positions of a volume are.
+        """
+        n_traces, n_samples = self.info.n_traces, self.info.n_samples
+        step = max(1, (16 << 20) // max(1, 4 * n_samples))  # about 16 MB a slice
+        dead = bad = 0
+        try:
+            for first in range(0, n_traces, step):
+                traces = np.asarray(self._file.trace.raw[first:min(n_traces, first + step)], dtype=np.float32)
+                traces = traces.reshape(-1, n_samples)
+                finite = np.isfinite(traces)
+                live = (finite & (traces != 0)).any(axis=1)
+                dead += int(np.count_nonzero(~live))
+                bad += int(np.count_nonzero(~finite[live]))
+        except (RuntimeError, OSError, ValueError) as err:
+            raise PitfallsInputError(self.path, "", f"traces cannot be read ({_one_line(err)})",
+                                     "the file may be truncated or damaged; export it again") from err
+        if dead == n_traces:
+            raise PitfallsInputError(self.path, "", f"holds no live samples: all {n_traces} traces are NaN, infinite "
+                                     "or zero", "export the section again with its amplitudes; check the sample "
+                                     "format code (binary header byte 3225)")
+        notes = []
+        if dead:
+            notes.append(f"{dead} of {n_traces} traces ({_percent(dead / n_traces)}) are dead (no finite, nonzero "
+                         "sample); they are treated as no data and not checked")
+        if bad:
+            notes.append(f"{bad} samples in live traces are NaN or infinite; they were read as 0")
+        if notes:
+            self.info = replace(self.info, notes=self.info.notes + tuple(notes))
 
     def _layout(self, n_traces: int, inlines: np.ndarray, xlines: np.ndarray, force_2d: bool,
                 iline_byte: int, xline_byte: int) -> TraceLayout:
@@ -210,10 +271,11 @@ class SeismicFile:
         scalars = handle.attributes(segyio.TraceField.SourceGroupScalar)[:].astype(np.int64)
         x = handle.attributes(segyio.TraceField.CDP_X)[:].astype(float)
         y = handle.attributes(segyio.TraceField.CDP_Y)[:].astype(float)
-        scale = np.array([coordinate_scale(int(s)) for s in np.unique(scalars)])
-        lookup = dict(zip(np.unique(scalars).tolist(), scale.tolist()))
-        factor = np.array([lookup[int(s)] for s in scalars]) if len(lookup) > 1 else scale[0]
+        distinct, which = np.unique(scalars, return_inverse=True)
+        factor = np.array([coordinate_scale(int(s)) for s in distinct])[which.ravel()]
         x, y = x * factor, y * factor
+        if np.any(x != 0) or np.any(y != 0):
+            self.layout = replace(self.layout, trace_x=x, trace_y=y)
         if self.layout.geometry == "3d":
             row = self.layout.grid[len(self.layout.grid) // 2]
             present = row[row >= 0]
@@ -248,71 +310,15 @@ class SeismicFile:
 
     def read_block(self, first_panel: int, stop_panel: int) -> Block:
         """Panels ``first_panel`` up to (not including) ``stop_panel``, read in one pass over their traces."""
-        info = self.info
-        if self.layout.geometry == "2d":
-            panel = Section(data=self._read_traces(np.arange(info.n_traces)), dt_ms=info.dt_ms, t0_ms=info.t0_ms,
-                            trace_spacing_m=info.trace_spacing_m, trace_numbers=self.layout.trace_numbers,
-                            name=os.path.basename(self.path))
-            return Block(0, (panel,))
-        rows = self.layout.grid[first_panel:stop_panel]
-        data = np.full(rows.shape + (info.n_samples,), np.nan, dtype=np.float32)
-        present = rows >= 0
-        data[present] = self._read_traces(rows[present])
-        panels = []
-        for offset, inline_index in enumerate(range(first_panel, stop_panel)):
-            inline_number = int(self.layout.inline_numbers[inline_index])
-            panels.append(Section(data=data[offset], dt_ms=info.dt_ms, t0_ms=info.t0_ms,
-                                  trace_spacing_m=info.trace_spacing_m, trace_numbers=self.layout.xline_numbers,
-                                  inline_number=inline_number, name=f"inline {inline_number}"))
-        return Block(first_panel, tuple(panels))
+        return self._reader.read_block(first_panel, stop_panel)
 
     def inline_panel(self, inline_index: int) -> Section:
         """The panel of one inline of a 3-D volume, NaN where a trace is missing."""
         return self.read_block(inline_index, inline_index + 1).panels[0]
 
-    def _read_traces(self, indices: np.ndarray) -> np.ndarray:
-        handle = self._file
-        out = np.empty((len(indices), self.info.n_samples), dtype=np.float32)
-        try:
-            if len(indices) and np.all(np.diff(indices) == 1):
-                out[:] = handle.trace.raw[int(indices[0]):int(indices[-1]) + 1]
-            else:
-                for row, index in enumerate(indices):
-                    out[row] = handle.trace[int(index)]
-        except (RuntimeError, OSError, ValueError) as err:
-            raise PitfallsInputError(self.path, "", f"traces cannot be read ({_one_line(err)})",
-                                     "the file may be truncated or damaged; export it again") from err
-        self._screen(indices, out)
-        return out
-
-    # --- dead data ------------------------------------------------------------------------
-    def _screen(self, indices: np.ndarray, traces: np.ndarray) -> None:
-        """Mark dead traces (no finite, nonzero sample) as no data (NaN) and zero the non-finite
-        samples of live traces, counting both; refuse the file once every trace has been read dead."""
-        finite = np.isfinite(traces)
-        live = (finite & (traces != 0)).any(axis=1)
-        bad = ~finite & live[:, None]
-        traces[bad] = 0.0
-        traces[~live] = np.nan
-        indices = np.asarray(indices, dtype=np.int64)
-        self._bad_samples[indices] = np.count_nonzero(bad, axis=1)
-        self._state[indices] = np.where(live, 1, 2)  # 0 not read yet, 1 live, 2 dead
-        if not np.any(self._state != 2):
-            raise PitfallsInputError(self.path, "", f"holds no live samples: all {len(self._state)} traces are NaN, "
-                                     "infinite or zero", "export the section again with its amplitudes; "
-                                     "check the sample format code (binary header byte 3225)")
-
-    def read_notes(self) -> tuple[str, ...]:
-        """What reading found: dead traces and non-finite samples, for the report's notes."""
-        dead, read = int(np.count_nonzero(self._state == 2)), int(np.count_nonzero(self._state))
-        bad_samples = int(self._bad_samples.sum())
-        notes = []
-        if dead:
-            notes.append(f"{dead} of {read} traces ({_percent(dead / read)}) are dead (no finite, nonzero sample); "
-                         "they are treated as no data and not checked")
-        if bad_samples:
-            notes.append(f"{bad_samples} samples in live traces are NaN or infinite; they were read as 0")
-        return tuple(notes)
+    def reader(self) -> "SegyBlockReader":
+        """A picklable block reader for worker processes: it opens its own read-only handle."""
+        return SegyBlockReader(self.path, self.info, self.layout, endian=self.endian)
 
     def close(self) -> None:
         self._file.close()
@@ -322,6 +328,90 @@ class SeismicFile:
 
     def __exit__(self, *exc: object) -> None:
         self.close()
+
+
+def screen_traces(traces: np.ndarray) -> None:
+    """In place: a dead trace (no finite, nonzero sample) becomes all NaN (no data); the NaN or
+    infinite samples of a live trace become 0."""
+    finite = np.isfinite(traces)
+    live = (finite & (traces != 0)).any(axis=1)
+    traces[~finite & live[:, None]] = 0.0
+    traces[~live] = np.nan
+
+
+class SegyBlockReader:
+    """Reads blocks of panels of a described SEG-Y file (read-only).
+
+    It carries the file's description (``info`` and ``layout``), so a worker process can read
+    blocks without reading every header again; pickling leaves the open handle behind, and the
+    copy opens its own on first use.
+    """
+
+    def __init__(self, path: str, info: SectionInfo, layout: TraceLayout, handle: segyio.SegyFile | None = None,
+                 endian: str = "big"):
+        self.path, self.info, self.layout, self.endian = path, info, layout, endian
+        self._handle = handle
+        self._owns_handle = handle is None
+
+    def __getstate__(self) -> dict:
+        return {"path": self.path, "info": self.info, "layout": self.layout, "endian": self.endian}
+
+    def __setstate__(self, state: dict) -> None:
+        self.__init__(state["path"], state["info"], state["layout"], endian=state.get("endian", "big"))
+
+    def _file(self) -> segyio.SegyFile:
+        if self._handle is None:
+            try:
+                self._handle = segyio.open(self.path, "r", ignore_geometry=True, endian=self.endian)
+            except (RuntimeError, ValueError, OSError) as err:
+                raise PitfallsInputError(self.path, "", f"cannot be read as SEG-Y ({_one_line(err)})",
+                                         "check that the file was not changed or removed during the scan") from err
+        return self._handle
+
+    def read_block(self, first_panel: int, stop_panel: int) -> Block:
+        """Panels ``first_panel`` up to (not including) ``stop_panel``; NaN where a volume has no trace."""
+        info, layout = self.info, self.layout
+        if layout.geometry == "2d":
+            panel = Section(data=self._read_traces(np.arange(info.n_traces)), dt_ms=info.dt_ms, t0_ms=info.t0_ms,
+                            trace_spacing_m=info.trace_spacing_m, trace_numbers=layout.trace_numbers,
+                            name=os.path.basename(self.path))
+            return Block(0, (panel,))
+        rows = layout.grid[first_panel:stop_panel]
+        data = np.full(rows.shape + (info.n_samples,), np.nan, dtype=np.float32)
+        present = rows >= 0
+        data[present] = self._read_traces(rows[present])
+        panels = []
+        for offset, inline_index in enumerate(range(first_panel, stop_panel)):
+            inline_number = int(layout.inline_numbers[inline_index])
+            panels.append(Section(data=data[offset], dt_ms=info.dt_ms, t0_ms=info.t0_ms,
+                                  trace_spacing_m=info.trace_spacing_m, trace_numbers=layout.xline_numbers,
+                                  inline_number=inline_number, name=f"inline {inline_number}"))
+        return Block(first_panel, tuple(panels))
+
+    def _read_traces(self, indices: np.ndarray) -> np.ndarray:
+        """Traces by file index, in the order given; each run of consecutive indices is one read."""
+        handle = self._file()
+        indices = np.asarray(indices, dtype=np.int64)
+        out = np.empty((len(indices), self.info.n_samples), dtype=np.float32)
+        if indices.size == 0:
+            return out
+        order = np.argsort(indices, kind="stable")
+        ordered = indices[order]
+        breaks = np.flatnonzero(np.diff(ordered) != 1) + 1
+        try:
+            for run in np.split(np.arange(ordered.size), breaks):
+                first, last = int(ordered[run[0]]), int(ordered[run[-1]])
+                out[order[run]] = handle.trace.raw[first:last + 1]
+        except (RuntimeError, OSError, ValueError) as err:
+            raise PitfallsInputError(self.path, "", f"traces cannot be read ({_one_line(err)})",
+                                     "the file may be truncated or damaged; export it again") from err
+        screen_traces(out)
+        return out
+
+    def close(self) -> None:
+        if self._handle is not None and self._owns_handle:
+            self._handle.close()
+            self._handle = None
 
 
 BYTES_PER_SAMPLE = {1: 4, 2: 4, 3: 2, 5: 4, 6: 8, 8: 1, 9: 8, 10: 4, 11: 2, 12: 8, 15: 3, 16: 1, 7: 3}

@@ -6,5 +6,7 @@
 - ``section``: ``model_section(earth, ...) -> ModelledSection``.
 - ``shapes``: anticline, dipping surface and canyon depth profiles.
 - ``segy_writer``: SEG-Y rev 1 lines and volumes, pick-file CSV, written atomically.
-- ``demo``: the invented Quillon Trough line with planted picking mistakes.
+- ``grid``: a map-view earth under a grid of crossing 2-D lines and small volumes, with planted
+  line statics and mis-picks, and the project file that lists them.
+- ``demo``: the invented Ondravel Trough line with planted picking mistakes.
 """

@@ -1,9 +1,9 @@
 """The bundled demo: an invented deep-water line with the classic picking mistakes planted in it.
 
-Scenario (invented): line QT24-117 crosses the Quillon Trough, a fictional deep-water basin,
+Scenario (invented): line OT25-117 crosses the Ondravel Trough, a fictional deep-water basin,
 in 820-970 m of water (seafloor 1090-1290 ms). The seafloor dips gently and is cut by a
 canyon; below it strata dip against the seafloor and rise into an anticline whose crest
-holds a small gas cap in the Wren sand,
+holds a small gas cap in the Belsaro sand,
 with a gas-water contact flat in depth. A gas-hydrate stability base, placed where the
 Dickens & Quinby-Hunt (1994) boundary puts it for the scenario's bottom-water temperature and
 geothermal gradient, runs parallel to the seafloor with reversed polarity and cuts the
@@ -32,8 +32,8 @@ from pitfalls.io.output import write_whole
 from pitfalls.modelling.segy_writer import write_picks_csv, write_section_segy
 from pitfalls.physics.hydrate import stability_base_depth_m
 
-LINE_NAME = "QT24-117"
-BASIN_NAME = "Quillon Trough"
+LINE_NAME = "OT25-117"
+BASIN_NAME = "Ondravel Trough"
 SEED = 20240117
 N_TRACES = 600
 N_SAMPLES = 1000
@@ -53,7 +53,7 @@ UNIT_THICKNESS_M = (
 )
 """Thickness at the crest of each unit below the first (top to bottom), m."""
 RESERVOIR_INDEX = 18
-"""Index of the Wren sand in the unit list."""
+"""Index of the Belsaro sand in the unit list."""
 CREST_TRACE = 400
 FOLD_HALF_WIDTH_TRACES = 110
 REGIONAL_DIP_M_PER_TRACE = -0.45
@@ -62,7 +62,7 @@ GAS_COLUMN_M = 50.0
 
 def _unit_names() -> list[str]:
     names = [f"U{index:02d}" for index in range(len(UNIT_THICKNESS_M) + 1)]
-    names[RESERVOIR_INDEX] = "Wren sand"
+    names[RESERVOIR_INDEX] = "Belsaro sand"
     return names
 
 
@@ -105,7 +105,7 @@ def demo_earth_model() -> tuple[EarthModel, dict[str, Any]]:
     reservoir_top = units[RESERVOIR_INDEX].top_depth_m
     contact_depth_m = float(np.min(reservoir_top)) + GAS_COLUMN_M
     contact = np.where(reservoir_top < contact_depth_m, contact_depth_m, np.nan)
-    gas = Overprint("Wren GWC", "gas", contact, -520.0, units=("Wren sand",))
+    gas = Overprint("Belsaro GWC", "gas", contact, -520.0, units=("Belsaro sand",))
     earth = EarthModel(
         water_velocity_m_s=WATER_VELOCITY_M_S,
         seafloor_depth_m=seafloor,
@@ -125,15 +125,15 @@ def demo_earth_model() -> tuple[EarthModel, dict[str, Any]]:
     return earth, facts
 
 INLINE_NUMBER = 117
-HORIZON_UNITS = {"Heron": "U07", "Wren": "Wren sand"}
+HORIZON_UNITS = {"Tuvessa": "U07", "Belsaro": "Belsaro sand"}
 """Correctly picked horizons and the unit tops they follow."""
-HOP_HORIZON, HOP_UNIT, HOP_TRACES = "Tern", "U19", 140
+HOP_HORIZON, HOP_UNIT, HOP_TRACES = "Drassel", "U19", 140
 """Mistake (a): a horizon that hops onto the first seafloor multiple for this many traces."""
-CONTACT_MISTAKE, CONTACT_MISTAKE_UNIT, CONTACT_MISTAKE_INDICES = "Kestrel flat spot", "U09", (200, 290)
+CONTACT_MISTAKE, CONTACT_MISTAKE_UNIT, CONTACT_MISTAKE_INDICES = "Lunvara flat spot", "U09", (200, 290)
 """Mistake (b): a 'contact' pick that follows a dipping reflector over trace indices [start, stop)."""
-JUMP_HORIZON, JUMP_UNIT = "Plover", "U05"
+JUMP_HORIZON, JUMP_UNIT = "Quessary", "U05"
 """Mistake (c): a horizon that follows stratigraphy, then jumps onto the hydrate base."""
-CONTACT_NAME = "Wren GWC"
+CONTACT_NAME = "Belsaro GWC"
 FIRST_PICKED_INDEX = 180
 """Horizons with planted mistakes are picked from this trace index (east of the canyon)."""
 
@@ -193,7 +193,7 @@ def build_demo() -> DemoScenario:
     )
     times = modelled.surface_twt_ms
     seafloor_ms = modelled.seafloor_twt_ms
-    multiple_ms = 2.0 * seafloor_ms  # first seafloor multiple, flat-layer rule (REFERENCES item 1)
+    multiple_ms = 2.0 * seafloor_ms  # first seafloor multiple, flat-layer rule (common practice)
     jitter = np.random.default_rng(SEED + 1)
     indices = np.arange(N_TRACES)
 
@@ -227,7 +227,7 @@ def build_demo() -> DemoScenario:
     picked.append((JUMP_HORIZON, "horizon", jittered(crosscut)))
 
     # (d) the genuine gas-water contact, picked where it exists.
-    picked.append((CONTACT_NAME, "contact", jittered(times["Wren GWC"])))
+    picked.append((CONTACT_NAME, "contact", jittered(times["Belsaro GWC"])))
 
     rows: list[dict[str, Any]] = []
     horizons = []
@@ -240,7 +240,7 @@ def build_demo() -> DemoScenario:
     hop_indices = indices[hop_start:hop_stop]
     jump_indices = indices[jump:]
     conformable_indices = indices[start:stop]
-    contact_indices = np.flatnonzero(np.isfinite(times["Wren GWC"]))
+    contact_indices = np.flatnonzero(np.isfinite(times["Belsaro GWC"]))
     conformable_dip = float(np.polyfit(conformable_indices, times[CONTACT_MISTAKE_UNIT][conformable_indices], 1)[0])
     truth = {
         "schema": "pitfalls-demo-truth/1",
@@ -296,9 +296,9 @@ def build_demo() -> DemoScenario:
             {
                 "horizon": CONTACT_NAME,
                 "kind": "contact",
-                **_span(contact_indices, times["Wren GWC"]),
+                **_span(contact_indices, times["Belsaro GWC"]),
                 "sentence": (
-                    f"{CONTACT_NAME} is the genuine gas-water contact in the Wren sand: flat in depth "
+                    f"{CONTACT_NAME} is the genuine gas-water contact in the Belsaro sand: flat in depth "
                     f"({facts['gas_water_contact_depth_m']:.1f} m), the seafloor's polarity, cutting the "
                     "dipping sand reflections at the anticline crest; no finding on it should be above low."
                 ),

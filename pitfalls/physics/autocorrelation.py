@@ -4,7 +4,10 @@ at the seafloor period.
 A water layer of two-way time ``t_sf`` with seafloor reflection coefficient R turns every primary
 into a train repeating every ``t_sf`` with alternating sign (Backus 1959): the autocorrelation of a
 reverberating trace has peaks at lags ``t_sf, 2 t_sf, ...`` and, because the free surface reverses
-the sign, the first of them is negative, near ``-R`` for a long train.
+the sign, the first of them is negative: ``-R`` for the seafloor's own train ``R, -R^2, R^3 ...``
+(operator ``1 / (1 + R z)``), and ``-2R / (1 + R^2)`` for the peg-leg train of a deeper reflector
+(operator ``1 / (1 + R z)^2``, the inverse of the Backus filter), whose coefficients are
+``(k + 1)(-R)^k``.
 
 Estimator (biased): ``r[k] = sum_n x[n] x[n + k]``, summed over the window only, not divided by
 ``N - k``; ``rho[k] = r[k] / r[0]``. The biased estimator is the one whose normalised values stay

@@ -1,7 +1,9 @@
 """Seafloor-parallel reflectors that cut across strata, and the hydrate stability base they may mark.
 
-Bottom-simulating events follow an isotherm, so they keep a nearly constant two-way time
-below the seafloor while the bedding around them dips at its own angle. The section is
+Bottom-simulating events keep a nearly constant two-way time below the seafloor while the
+bedding around them dips at its own angle: a diagenetic front (opal-A to opal-CT) follows an
+isotherm, and the base of gas-hydrate stability follows a pressure-temperature boundary, so it
+lies deeper below the seafloor where the water is deeper. The section is
 mapped to time below the seafloor (each trace shifted so that the seafloor is at zero);
 there a bottom-simulating event is horizontal. Two lateral coherences are compared:
 
@@ -42,9 +44,9 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy.ndimage import binary_dilation, correlate1d, label, map_coordinates, maximum_filter1d, uniform_filter1d
-from scipy.signal import hilbert
 
 from pitfalls.physics.dip import structure_tensor_dip
+from pitfalls.physics.envelope import envelope as envelope_of
 from pitfalls.physics.hydrate import gradient_for_base_c_per_km, stability_base_depth_m
 from pitfalls.physics.velocity import VelocityModel
 
@@ -353,7 +355,7 @@ def find_seafloor_parallel_events(
     n_traces, n_below = flattened.shape
     window_samples = max(1, int(round(window_ms / dt_ms)) | 1)
     semblance, lateral_mean, valid_fraction = seafloor_parallel_semblance(flattened, valid, window_traces, window_samples)
-    envelope = np.abs(hilbert(lateral_mean, axis=1))
+    envelope = envelope_of(lateral_mean, axis=1)
     guard_samples = max(1, int(round(guard_ms / dt_ms)))
     band_samples = max(guard_samples + 1, int(round(band_ms / dt_ms)))
     local_max = envelope >= maximum_filter1d(envelope, 2 * guard_samples + 1, axis=1, mode="constant")
@@ -417,9 +419,8 @@ def _measure_event(flattened: np.ndarray, semblance: np.ndarray, stratal_dip: np
     lobe = flattened[traces[:, None], snap]
     strongest = np.argmax(np.abs(lobe), axis=1)
     amplitude = lobe[np.arange(traces.size), strongest]
-    strata_dip = np.array([band_median_dip(stratal_dip, weight, int(trace), int(sample), window_traces // 2,
-                                           guard_samples, band_samples)
-                           for trace, sample in zip(traces, samples)])
+    strata_dip = band_median_dips(stratal_dip, weight, traces, samples, window_traces // 2, guard_samples,
+                                  band_samples)
     along_strata = dip_steered_semblance(flattened, traces, samples, strata_dip, window_traces, window_samples)
     return SeafloorParallelEvent(
         trace_index=traces,
@@ -468,13 +469,56 @@ def band_median_dip(dip: np.ndarray, weight: np.ndarray, trace: int, sample: int
     return float(values[order][np.searchsorted(cumulative, 0.5 * cumulative[-1])])
 
 
+def band_median_dips(dip: np.ndarray, weight: np.ndarray, traces: np.ndarray, samples: np.ndarray,
+                     half_traces: int, guard_samples: int, band_samples: int, chunk: int = 2048) -> np.ndarray:
+    """:func:`band_median_dip` at many points at once (whole-array gathers, no loop over points).
+
+    Parameters
+    ----------
+    dip, weight : ndarray of shape (n_traces, n_samples)
+    traces, samples : ndarray of int, shape (n_points,)
+        The points.
+    half_traces, guard_samples, band_samples : int
+        As in :func:`band_median_dip`.
+    chunk : int
+        Points gathered at a time, to bound memory.
+
+    Returns
+    -------
+    ndarray of shape (n_points,)
+        Weighted median dip at each point, samples per trace; 0 where the bands carry no weight.
+    """
+    traces = np.asarray(traces, dtype=int)
+    samples = np.asarray(samples, dtype=int)
+    result = np.zeros(traces.size)
+    n_traces, n_samples = dip.shape
+    trace_offsets = np.arange(-half_traces, half_traces + 1)
+    band = np.arange(guard_samples, band_samples + 1)
+    sample_offsets = np.concatenate((-band[::-1], band)) if band.size else np.zeros(0, dtype=int)
+    for first in range(0, traces.size, chunk):
+        rows = traces[first:first + chunk, None, None] + trace_offsets[None, :, None]
+        columns = samples[first:first + chunk, None, None] + sample_offsets[None, None, :]
+        rows, columns = np.broadcast_arrays(rows, columns)
+        inside = (rows >= 0) & (rows < n_traces) & (columns >= 0) & (columns < n_samples)
+        rows, columns = np.clip(rows, 0, n_traces - 1), np.clip(columns, 0, n_samples - 1)
+        values = np.where(inside, dip[rows, columns], np.inf).reshape(rows.shape[0], -1)
+        weights = np.where(inside, weight[rows, columns], 0.0).reshape(rows.shape[0], -1)
+        order = np.argsort(values, axis=1)
+        cumulative = np.cumsum(np.take_along_axis(weights, order, axis=1), axis=1)
+        total = weights.sum(axis=1)
+        crossing = np.argmax(cumulative >= 0.5 * cumulative[:, -1:], axis=1)  # first index reaching half
+        median = np.take_along_axis(np.take_along_axis(values, order, axis=1), crossing[:, None], axis=1)[:, 0]
+        result[first:first + chunk] = np.where(total > _TINY, median, 0.0)
+    return result
+
+
 def water_layer_peg_leg_flags(stack: np.ndarray, stack_envelope: np.ndarray, dt_ms: float,
                               seafloor_twt_ms: np.ndarray, trace_index: np.ndarray, twt_below_seafloor_ms: np.ndarray,
                               amplitude: np.ndarray, min_parent_ratio: float, half_width_ms: float) -> np.ndarray:
     """Per point, whether it could be the water-layer peg-leg of a shallower event (Backus 1959).
 
     A peg-leg of a reflector at time ``t_r`` below the seafloor arrives one seafloor time later,
-    ``t_r + t_sf``, with amplitude ``-2 R_sf A`` (REFERENCES item 1): the opposite sign of its
+    ``t_r + t_sf``, with amplitude ``-2 R_sf A`` (Backus 1959): the opposite sign of its
     parent in the data (``R_sf > 0``) and, for ``R_sf`` up to 0.5, no stronger. With the seafloor
     itself as the parent (``t_r = 0``) this is the first seafloor multiple at ``2 t_sf``.
 
@@ -505,17 +549,20 @@ def water_layer_peg_leg_flags(stack: np.ndarray, stack_envelope: np.ndarray, dt_
     half = max(1, int(round(half_width_ms / dt_ms)))
     n_below = stack.shape[1]
     found = np.zeros(traces.size, dtype=bool)
-    for position, trace in enumerate(traces):
-        if not (np.isfinite(parent_ms[position]) and np.isfinite(below[position])):
-            continue
-        middle, own = int(round(parent_ms[position] / dt_ms)), int(round(below[position] / dt_ms))
-        low, high = max(0, middle - half), min(n_below, middle + half + 1)
-        if high <= low or not 0 <= own < n_below:
-            continue
-        strongest = low + int(np.argmax(np.abs(stack[trace, low:high])))  # the parent's main lobe
-        opposite = np.sign(stack[trace, strongest]) == -np.sign(amplitude[position])
-        stronger = stack_envelope[trace, strongest] >= min_parent_ratio * stack_envelope[trace, own]
-        found[position] = bool(opposite and stronger)
+    usable = np.isfinite(parent_ms) & np.isfinite(below)
+    middle = np.rint(np.where(usable, parent_ms, 0.0) / dt_ms).astype(int)
+    own = np.rint(np.where(usable, below, 0.0) / dt_ms).astype(int)
+    columns = middle[:, None] + np.arange(-half, half + 1)[None, :]
+    inside = (columns >= 0) & (columns < n_below)
+    usable &= inside.any(axis=1) & (own >= 0) & (own < n_below)
+    if not usable.any():
+        return found
+    columns = np.clip(columns, 0, n_below - 1)
+    magnitude = np.where(inside, np.abs(stack[traces[:, None], columns]), -1.0)
+    strongest = columns[np.arange(traces.size), np.argmax(magnitude, axis=1)]  # the parent's main lobe
+    opposite = np.sign(stack[traces, strongest]) == -np.sign(amplitude)
+    stronger = stack_envelope[traces, strongest] >= min_parent_ratio * stack_envelope[traces, np.clip(own, 0, n_below - 1)]
+    found[usable] = (opposite & stronger)[usable]
     return found
 
 
@@ -691,13 +738,13 @@ def stratal_dip_along_path(search: EventSearch, path_twt_below_seafloor_ms: np.n
     guard_samples = max(1, int(round(guard_ms / dt_ms)))
     band_samples = max(guard_samples + 1, int(round(band_ms / dt_ms)))
     n_below = search.dip_samples_per_trace.shape[1]
-    for trace in np.asarray(trace_index, dtype=int):
-        if not np.isfinite(below[trace]):
-            continue
-        sample = int(round(below[trace] / dt_ms))
-        if 0 <= sample < n_below:
-            dip_ms[trace] = dt_ms * band_median_dip(search.dip_samples_per_trace, search.dip_weight, int(trace),
-                                                    sample, half_traces, guard_samples, band_samples)
+    traces = np.asarray(trace_index, dtype=int)
+    traces = traces[np.isfinite(below[traces])]
+    samples = np.rint(below[traces] / dt_ms).astype(int)
+    inside = (samples >= 0) & (samples < n_below)
+    traces, samples = traces[inside], samples[inside]
+    dip_ms[traces] = dt_ms * band_median_dips(search.dip_samples_per_trace, search.dip_weight, traces, samples,
+                                              half_traces, guard_samples, band_samples)
     return dip_ms
 
 

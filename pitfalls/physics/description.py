@@ -17,7 +17,7 @@ trace number), as :mod:`pitfalls.physics.dip` returns them.
 - Frequency: the mean amplitude spectrum of the interval's traces (each demeaned and
   Tukey-tapered); dominant = its peak, centroid = amplitude-weighted mean frequency,
   bandwidth = amplitude-weighted standard deviation about the centroid. For a Ricker wavelet
-  of peak frequency f these are f, 2 f / sqrt(pi) = 1.128 f (REFERENCES item 9) and
+  of peak frequency f these are f, 2 f / sqrt(pi) = 1.128 f (Ricker wavelet formula) and
   sqrt(3/2 - 4/pi) f = 0.4762 f (from the spectrum (nu/f)^2 exp(-(nu/f)^2), derived in the tests).
 - Continuity: the share of samples whose structure-tensor coherence reaches a threshold,
   and the lateral length of continuous reflection segments: extrema of the trace (peaks and

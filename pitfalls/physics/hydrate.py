@@ -23,7 +23,6 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy.optimize import brentq
 
 ATMOSPHERE_MPA = 0.101325
 """Sea-level atmospheric pressure added to the hydrostatic column, MPa."""
@@ -119,6 +118,7 @@ def stability_base_depth_m(
         return math.nan
     if excess_temperature_k(SEARCH_MAX_DEPTH_M) <= 0.0:
         return math.nan
+    from scipy.optimize import brentq  # loaded only when a base is looked for: it is slow to import
     return float(brentq(excess_temperature_k, 0.0, SEARCH_MAX_DEPTH_M, xtol=1e-9, rtol=1e-12))
 
 

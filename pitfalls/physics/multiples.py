@@ -37,11 +37,15 @@ def seafloor_multiple_twt_ms(seafloor_twt_ms: np.ndarray | float, multiplier: in
 
 
 def seafloor_dip_angle_deg(seafloor_twt_ms: np.ndarray, trace_spacing_m: float,
-                           water_velocity_m_s: float, smoothing_traces: int = 1) -> np.ndarray:
+                           water_velocity_m_s: float, smoothing_traces: int = 1,
+                           across_ms_per_m: np.ndarray | None = None) -> np.ndarray:
     """Seafloor dip angle from its time-dip on a zero-offset section: ``sin(xi) = (v / 2) dt/dx``.
 
     The seafloor times are median-smoothed over ``smoothing_traces`` (gaps interpolated for the
-    gradient, then put back as NaN). Returns degrees, >= 0, NaN where the seafloor is unknown.
+    gradient, then put back as NaN). On an inline of a volume, ``across_ms_per_m`` (the time
+    gradient across the inlines, per trace) is added in quadrature, ``sin(xi) = (v / 2) |grad t|``,
+    so the angle is the true dip, not its component along the line. Returns degrees, >= 0, NaN
+    where the seafloor is unknown.
     """
     twt = np.asarray(seafloor_twt_ms, dtype=float)
     found = np.isfinite(twt)
@@ -51,8 +55,13 @@ def seafloor_dip_angle_deg(seafloor_twt_ms: np.ndarray, trace_spacing_m: float,
     filled = np.interp(np.arange(twt.size), np.flatnonzero(found), twt[found])
     if smoothing_traces > 1:
         filled = median_filter(filled, size=int(smoothing_traces), mode="nearest")
-    dip_s_per_m = np.gradient(filled) / 1000.0 / float(trace_spacing_m)
-    sine = np.clip(0.5 * water_velocity_m_s * np.abs(dip_s_per_m), 0.0, 1.0)  # dt1/dL = (2/v) sin xi
+    dip_s_per_m = np.abs(np.gradient(filled) / 1000.0 / float(trace_spacing_m))
+    if across_ms_per_m is not None:
+        across_s_per_m = np.nan_to_num(np.asarray(across_ms_per_m, dtype=float), nan=0.0) / 1000.0
+        if smoothing_traces > 1:
+            across_s_per_m = median_filter(across_s_per_m, size=int(smoothing_traces), mode="nearest")
+        dip_s_per_m = np.hypot(dip_s_per_m, across_s_per_m)  # |grad t| of the seafloor plane
+    sine = np.clip(0.5 * water_velocity_m_s * dip_s_per_m, 0.0, 1.0)  # dt1/dL = (2/v) sin xi
     angle[found] = np.degrees(np.arcsin(sine[found]))
     return angle
 
@@ -61,7 +70,7 @@ def dipping_seafloor_multiple_twt_ms(seafloor_twt_ms: np.ndarray | float,
                                      dip_angle_deg: np.ndarray | float, multiplier: int) -> np.ndarray:
     """Zero-offset time of the event with n seafloor bounces under a planar dipping seafloor.
 
-    ``t_n = t_sf * sin(n xi) / sin(xi)``, from ``t_n(L) = (2 L / v) sin(n xi)`` (REFERENCES item 1);
+    ``t_n = t_sf * sin(n xi) / sin(xi)``, from ``t_n(L) = (2 L / v) sin(n xi)`` (dipping-plane rule);
     tends to ``n * t_sf`` as xi -> 0.
     """
     twt = np.asarray(seafloor_twt_ms, dtype=float)
@@ -215,7 +224,7 @@ def time_dip_ratio(pick_twt_ms: np.ndarray, reference_twt_ms: np.ndarray, max_po
     """Time-dip of a pick over that of a reference surface: the Theil-Sen slope (median of pairwise
     slopes) of pick time on reference time.
 
-    A seafloor multiple of n bounces has about n times the seafloor's time-dip (REFERENCES item 1),
+    A seafloor multiple of n bounces has about n times the seafloor's time-dip (dipping-plane rule),
     so its slope on the seafloor time is about n. The median of pairwise slopes ignores a minority
     of mis-picked traces. Pairs whose reference times differ by less than 1e-6 ms are skipped; up to
     ``max_points`` evenly spaced points are used. Returns NaN with fewer than 3 usable points.

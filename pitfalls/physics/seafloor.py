@@ -18,10 +18,8 @@ from dataclasses import dataclass
 from typing import Any, Mapping
 
 import numpy as np
-from scipy.ndimage import median_filter
-from scipy.signal import hilbert
-
 from pitfalls.model import Picks, Section
+from pitfalls.physics.envelope import analytic_signal
 
 
 @dataclass(frozen=True)
@@ -78,17 +76,36 @@ def auto_seafloor(section: Section, rules: Mapping[str, Any]) -> np.ndarray:
     median_start = np.median(start[live_traces])
     late = start > median_start + settings["late_start_ms"] / section.dt_ms
     window = data[:, :search].astype(float)
-    envelope = np.abs(hilbert(window, axis=1))
+    envelope = np.abs(analytic_signal(window, axis=1))
     peak = envelope.max(axis=1)
-    for index in np.flatnonzero(live_traces & ~late & (peak > 0)):
-        above = np.flatnonzero(envelope[index] >= settings["onset_fraction"] * peak[index])
-        onset = int(above[0])
-        stop = min(search, onset + lobe + 1)
-        lobe_samples = window[index, onset:stop]
-        best = onset + int(np.argmax(np.abs(lobe_samples)))
-        offset, _ = parabolic_peak(np.abs(window[index]), best)
-        twt[index] = section.t0_ms + (best + offset) * section.dt_ms
+    rows = np.flatnonzero(live_traces & ~late & (peak > 0))
+    if rows.size == 0:
+        return _keep_continuous(twt, settings)
+    magnitude = np.abs(window[rows])
+    onset = np.argmax(envelope[rows] >= settings["onset_fraction"] * peak[rows, None], axis=1)
+    # the lobe: the largest absolute sample from the onset to lobe samples after it (first one on ties)
+    columns = onset[:, None] + np.arange(lobe + 1)[None, :]
+    in_window = columns < search
+    lobe_magnitude = np.where(in_window, magnitude[np.arange(rows.size)[:, None], np.minimum(columns, search - 1)], -1.0)
+    best = onset + np.argmax(lobe_magnitude, axis=1)
+    offset, _ = parabolic_peaks(magnitude, best)
+    twt[rows] = section.t0_ms + (best + offset) * section.dt_ms
     return _keep_continuous(twt, settings)
+
+
+def parabolic_peaks(values: np.ndarray, index: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`parabolic_peak` on every row of ``values`` (shape (n, m)) at its own ``index`` (shape (n,))."""
+    rows = np.arange(values.shape[0])
+    index = np.asarray(index, dtype=int)
+    y1 = values[rows, index].astype(float)
+    inside = (index > 0) & (index < values.shape[1] - 1)
+    y0 = values[rows, np.clip(index - 1, 0, values.shape[1] - 1)].astype(float)
+    y2 = values[rows, np.clip(index + 1, 0, values.shape[1] - 1)].astype(float)
+    denominator = y0 - 2.0 * y1 + y2
+    usable = inside & (denominator != 0.0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        offset = np.where(usable, np.clip(0.5 * (y0 - y2) / np.where(usable, denominator, 1.0), -0.5, 0.5), 0.0)
+    return offset, np.where(usable, y1 - 0.25 * (y0 - y2) * offset, y1)
 
 
 def _keep_continuous(twt: np.ndarray, settings: Mapping[str, Any]) -> np.ndarray:
@@ -96,6 +113,7 @@ def _keep_continuous(twt: np.ndarray, settings: Mapping[str, Any]) -> np.ndarray
     found = np.isfinite(twt)
     if found.sum() < 3:
         return twt
+    from scipy.ndimage import median_filter
     width = int(settings["continuity_traces"])
     filled = np.interp(np.arange(len(twt)), np.flatnonzero(found), twt[found])
     smooth = median_filter(filled, size=width, mode="nearest")
@@ -110,15 +128,19 @@ def amplitude_at(section: Section, twt_ms: np.ndarray, snap_ms: float = 0.0) -> 
     amplitude = np.full(section.n_traces, np.nan)
     samples = section.sample_of(twt_ms)
     snap = int(round(snap_ms / section.dt_ms))
-    for index in np.flatnonzero(np.isfinite(samples)):
-        centre = int(round(samples[index]))
-        if centre < 0 or centre >= section.n_samples:
-            continue
-        low, high = max(0, centre - snap), min(section.n_samples, centre + snap + 1)
-        window = data[index, low:high]
-        if not np.isfinite(window).any():
-            continue
-        amplitude[index] = float(window[int(np.nanargmax(np.abs(window)))])
+    with np.errstate(invalid="ignore"):
+        centre = np.rint(samples)
+        rows = np.flatnonzero(np.isfinite(centre) & (centre >= 0) & (centre < section.n_samples))
+    if rows.size == 0:
+        return amplitude
+    columns = centre[rows].astype(int)[:, None] + np.arange(-snap, snap + 1)[None, :]
+    inside = (columns >= 0) & (columns < section.n_samples)
+    values = data[rows[:, None], np.clip(columns, 0, section.n_samples - 1)]
+    values = np.where(inside, values, np.nan)
+    magnitude = np.abs(values)
+    readable = np.isfinite(magnitude).any(axis=1)
+    best = np.argmax(np.where(np.isfinite(magnitude), magnitude, -1.0), axis=1)  # first of the strongest
+    amplitude[rows[readable]] = values[np.arange(rows.size), best][readable]
     return amplitude
 
 
@@ -161,26 +183,34 @@ def dominant_frequency_hz(section: Section, seafloor_twt_ms: np.ndarray | None =
     Uses up to ``max_traces`` evenly spaced traces; each trace is demeaned and Hann-tapered.
     Returns NaN for a panel with no live data.
     """
-    data = np.nan_to_num(section.data, nan=0.0)
     chosen = np.unique(np.linspace(0, section.n_traces - 1, min(max_traces, section.n_traces)).astype(int))
     n_fft = int(2 ** np.ceil(np.log2(max(section.n_samples, 64))))
-    spectrum = np.zeros(n_fft // 2 + 1)
-    used = 0
-    for index in chosen:
-        trace = data[index].astype(float)
-        start = 0
-        if seafloor_twt_ms is not None and np.isfinite(seafloor_twt_ms[index]):
-            start = int(max(0, section.sample_of(seafloor_twt_ms[index])))
-        trace = trace[start:start + int(round(window_ms / section.dt_ms))]
-        live = np.flatnonzero(trace != 0)
-        if live.size < 16:
-            continue
-        trace = trace[live[0]:live[-1] + 1]
-        trace = (trace - trace.mean()) * np.hanning(trace.size)
-        spectrum += np.abs(np.fft.rfft(trace, n_fft))
-        used += 1
-    if used == 0:
+    window = int(round(window_ms / section.dt_ms))
+    start = np.zeros(chosen.size, dtype=int)
+    if seafloor_twt_ms is not None:
+        below = np.isfinite(seafloor_twt_ms[chosen])
+        start[below] = np.maximum(0.0, section.sample_of(seafloor_twt_ms[chosen][below])).astype(int)
+    # each trace from its seafloor (or first sample) for window_ms, zeros past the end of the data
+    columns = start[:, None] + np.arange(max(window, 0))[None, :]
+    inside = columns < section.n_samples
+    segment = np.where(inside, np.nan_to_num(section.data, nan=0.0)[chosen[:, None], np.minimum(columns, section.n_samples - 1)]
+                       .astype(float), 0.0) if window > 0 else np.zeros((chosen.size, 0))
+    live = segment != 0
+    used = live.sum(axis=1) >= 16
+    if not used.any():
         return float("nan")
+    segment, live = segment[used], live[used]
+    # trimmed to its first and last live sample, demeaned and Hann-tapered (np.hanning's formula)
+    first = np.argmax(live, axis=1)
+    length = segment.shape[1] - np.argmax(live[:, ::-1], axis=1) - first
+    k = np.arange(segment.shape[1])[None, :]
+    within = k < length[:, None]
+    trimmed = np.where(within, segment[np.arange(segment.shape[0])[:, None], np.minimum(first[:, None] + k, segment.shape[1] - 1)], 0.0)
+    mean = trimmed.sum(axis=1) / length
+    n = 1 - length[:, None] + 2 * k
+    hann = 0.5 + 0.5 * np.cos(np.pi * n / (length[:, None] - 1))
+    tapered = np.where(within, (trimmed - mean[:, None]) * hann, 0.0)
+    spectrum = np.abs(np.fft.rfft(tapered, n_fft, axis=1)).sum(axis=0)
     frequencies_hz = np.fft.rfftfreq(n_fft, section.dt_ms / 1000.0)
     width = max(1, int(round(2.0 / (frequencies_hz[1] - frequencies_hz[0]))))  # smooth over ~2 Hz
     smooth = np.convolve(spectrum, np.ones(width) / width, mode="same")

@@ -33,6 +33,10 @@ def _range(values: tuple | None) -> list | None:
     return None if values is None else [_plain(values[0]), _plain(values[1])]
 
 
+def _corners(corners: tuple | None) -> list | None:
+    return None if corners is None else [_range(corners[0]), _range(corners[1])]
+
+
 def finding_dict(finding: Finding) -> dict[str, Any]:
     return {
         "rank": finding.rank,
@@ -46,6 +50,7 @@ def finding_dict(finding: Finding) -> dict[str, Any]:
         "inlines": _range(finding.inlines),
         "xlines": _range(finding.xlines),
         "twt_ms": _range(finding.twt_ms),
+        "footprint_xy": _corners(finding.footprint_xy),
         "title": finding.title,
         "evidence": _plain(dict(finding.evidence)),
         "advice": finding.advice,
@@ -74,7 +79,8 @@ def report_dict(result: ScanResult) -> dict[str, Any]:
                     "n_missing_traces": info.n_missing_traces,
                     "trace_spacing_m": _plain(float(info.trace_spacing_m)),
                     "trace_spacing_from_headers": bool(info.spacing_from_headers),
-                    "notes": list(info.notes)},
+                    "notes": list(info.notes),
+                    "coordinate_extent_xy": _corners(info.coordinate_extent_xy)},
         "seafloor": seafloor_dict(result),
         "picks": [{"horizon": p.horizon, "kind": p.kind, "n_points": p.n_points, "n_gaps": p.n_gaps}
                   for p in result.picks],

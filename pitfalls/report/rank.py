@@ -1,16 +1,22 @@
-"""Scores and ranks findings across detectors.
+"""Ranks findings across detectors: severity first, then score.
 
-    score = (w_s * s + w_c * confidence + w_e * extent) / (w_s + w_c + w_e)
+Every high finding comes before every medium one, and every medium before every low one.
+Within one severity the findings are ordered by
 
-``s`` is 1.0, 0.6 or 0.25 for high, medium or low severity; ``extent`` is the fraction of
-the section's traces (2-D) or inline x crossline positions (3-D) the finding covers, 0 for
-a finding with no range. The weights are ``ranking.weight_*`` in the rules.
+    score = w_s * s + w_c * confidence + w_e * extent
+
+with the weights ``ranking.weight_*`` of the rules scaled to sum to 1 (the defaults 0.6, 0.3
+and 0.1 already do), ``s`` 1.0, 0.6 or 0.25 for high, medium or low severity, and ``extent``
+the fraction of the section's traces (2-D) or inline x crossline positions (3-D) the finding
+covers, 0 for a finding with no range. The score keeps ``s`` so that it also reads as one
+number on its own, in [0, 1].
 
 Findings with a confidence below ``ranking.min_confidence`` are dropped first. Then, in
-score order, a horizon's k-th finding (k = 0 for its best) has its score multiplied
-by ``ranking.repeat_factor`` ** k, so that the top of the report covers different picks
-before it repeats one; findings with no horizon are not discounted. Ties are broken by
-severity, id, horizon and first trace, so the same findings always come in the same order.
+rank order, a horizon's k-th finding (k = 0 for its first) has its score multiplied by
+``ranking.repeat_factor`` ** k, so that within a severity the top of the report covers
+different picks before it repeats one; findings with no horizon are not discounted. Ties
+are broken by id, horizon and first trace, so the same findings always come in the same
+order.
 """
 from __future__ import annotations
 
@@ -45,13 +51,13 @@ def score(finding: Finding, info: SectionInfo, ranking: Mapping[str, Any]) -> fl
 
 
 def rank_findings(findings: Sequence[Finding], info: SectionInfo, ranking: Mapping[str, Any]) -> tuple[Finding, ...]:
-    """Findings with ``score`` and ``rank`` set, best first."""
+    """Findings with ``score`` and ``rank`` set: severity first, then score (see the module docstring)."""
     scored = [replace(f, score=score(f, info, ranking)) for f in findings
               if f.confidence >= ranking["min_confidence"]]
 
     def order(finding: Finding) -> tuple:
         first = finding.traces[0] if finding.traces else (finding.inlines[0] if finding.inlines else 0)
-        return (-round(finding.score, 12), SEVERITY_ORDER[finding.severity], finding.id,
+        return (SEVERITY_ORDER[finding.severity], -round(finding.score, 12), finding.id,
                 finding.horizon or "", first)
 
     seen: dict[str, int] = {}

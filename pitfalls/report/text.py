@@ -85,5 +85,9 @@ def section_lines(result: ScanResult) -> list[str]:
         f"{_measured(seafloor.dominant_frequency_hz, 'Hz')}",
         f"Rules: {result.rules_path}",
     ]
+    extent = info.coordinate_extent_xy
+    lines.insert(1, "Coordinates: none in the trace headers (CDP X/Y bytes 181/185 are zero)" if extent is None else
+                 f"Coordinates: CDP X {extent[0][0]:.1f} to {extent[1][0]:.1f}, Y {extent[0][1]:.1f} to {extent[1][1]:.1f} "
+                 "(bytes 181/185, scalar of byte 71 applied)")
     lines += [f"Note: {note}" for note in info.notes]
     return lines

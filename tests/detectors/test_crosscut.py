@@ -29,7 +29,7 @@ from pitfalls.physics.velocity import VelocityModel
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 REAL_LINE = ROOT.parent / "shared" / "data" / "real" / "penobscot_xl1155.sgy"
-DEMO_TRUTH = ROOT / "demo_data" / "QT24-117_truth.json"
+DEMO_TRUTH = ROOT / "demo_data" / "OT25-117_truth.json"
 N_TRACES = 240
 DT_MS = 4.0
 EVENT_IDS = {"crosscut.hydrate-like", "crosscut.diagenetic-like"}

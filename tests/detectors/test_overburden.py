@@ -13,7 +13,6 @@ import numpy as np
 import pytest
 
 from detecting import run_detector
-
 from pitfalls import detectors as registry
 from pitfalls.detectors import overburden
 from pitfalls.io.rules import load_rules

@@ -92,6 +92,37 @@ def test_polarity_flip(rules):
     assert 0.8 < flip.evidence["amplitude_ratio_to_rest"] < 1.2
 
 
+def test_polarity_flip_is_asked_as_a_question(rules):
+    twt = np.full(N_TRACES, CENTRE_MS)
+    twt[30:60] += PERIOD_MS / 2  # 30 traces on the trough: medium by length
+    flip = run(wave_train_section(), twt, rules)[0]
+    assert flip.severity == "medium" and flip.title.startswith("Has H1 moved to another reflector")
+    assert "over_picked_contact" not in flip.evidence
+
+
+def test_polarity_flip_over_a_picked_contact_is_one_step_lower(rules):
+    """A gas cap reverses the reflection of its top: a flip above a picked contact is a question for a
+    fluid first, so the same 30-trace flip that is medium alone is low with a contact below it."""
+    twt = np.full(N_TRACES, CENTRE_MS)
+    twt[30:60] += PERIOD_MS / 2
+    contact = np.full(N_TRACES, np.nan)
+    contact[25:65] = CENTRE_MS + 80.0
+    picks = Picks((Horizon("H1", "horizon", twt), Horizon("GWC", "contact", contact)))
+    flips = [f for f in run_detector(pick_consistency, wave_train_section(), picks, rules) if f.horizon == "H1"]
+    assert [(f.id, f.traces, f.severity) for f in flips] == [("pick.polarity-flip", (31, 60), "low")]
+    assert flips[0].evidence["over_picked_contact"] == "GWC"
+    assert "above the picked contact GWC" in flips[0].title
+
+
+def test_a_contact_above_the_flip_does_not_lower_it(rules):
+    twt = np.full(N_TRACES, CENTRE_MS)
+    twt[30:60] += PERIOD_MS / 2
+    shallower = np.full(N_TRACES, CENTRE_MS - 100.0)
+    picks = Picks((Horizon("H1", "horizon", twt), Horizon("OWC", "contact", shallower)))
+    flips = [f for f in run_detector(pick_consistency, wave_train_section(), picks, rules) if f.horizon == "H1"]
+    assert [f.severity for f in flips] == ["medium"]
+
+
 def test_short_flip_is_ignored(rules):
     twt = np.full(N_TRACES, CENTRE_MS)
     twt[30:33] += PERIOD_MS / 2  # three traces: below min_run_traces

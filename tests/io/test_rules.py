@@ -71,7 +71,7 @@ def test_shipped_defaults_load_with_the_registered_detectors():
     rules, used, digest = load_rules(None, detectors.rule_keys())
     assert used == BUILT_IN == "built-in defaults"  # never a path inside the installation
     assert digest == hashlib.sha256(default_rules_bytes()).hexdigest()
-    assert set(rules) == set(CORE_KEYS) | set(detectors.BY_NAME)
+    assert set(rules) == set(CORE_KEYS) | set(detectors.BY_NAME) | {m.NAME for m in detectors.PROJECT_CHECKS}
 
 
 # --- merging ----------------------------------------------------------------------------
@@ -80,7 +80,7 @@ def test_no_user_file_gives_the_defaults_with_their_path_and_hash(defaults):
     assert used == str(defaults)
     assert digest == hashlib.sha256(defaults.read_bytes()).hexdigest()
     assert rules == {**core_defaults(), "fake": FAKE_DEFAULTS}
-    assert list(rules) == ["velocity", "section", "seafloor", "ranking", "describe", "fake"]
+    assert list(rules) == ["velocity", "section", "seafloor", "ranking", "maps", "describe", "fake"]
 
 
 def test_user_file_overrides_a_subset_and_reports_its_own_path_and_hash(tmp_path, defaults):

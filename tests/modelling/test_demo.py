@@ -117,12 +117,12 @@ def test_conformable_contact_dips_and_genuine_contact_is_flat_in_depth(scenario)
     item = next(i for i in scenario.truth["expected"] if i["id"] == "contact.conformable")
     assert abs(item["dip_ms_per_trace"]) > 0.5
     genuine = scenario.picks.by_name(demo.CONTACT_NAME).twt_ms
-    truth = scenario.modelled.surface_twt_ms["Wren GWC"]
+    truth = scenario.modelled.surface_twt_ms["Belsaro GWC"]
     present = np.isfinite(truth)
     assert present.sum() > 50
     np.testing.assert_array_equal(np.isfinite(genuine), present)
     assert np.max(np.abs(genuine[present] - truth[present])) <= demo.DT_MS
-    assert np.all(scenario.modelled.reflection_coefficient["Wren GWC"][present] > 0)
+    assert np.all(scenario.modelled.reflection_coefficient["Belsaro GWC"][present] > 0)
     earth, _ = demo.demo_earth_model()
     contact = next(o for o in earth.overprints if o.kind == "gas").depth_m
     assert np.nanmax(contact) == np.nanmin(contact)

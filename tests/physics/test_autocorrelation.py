@@ -51,6 +51,23 @@ def test_reverberation_spike_train_alternates_with_the_period():
     np.testing.assert_allclose(rho, scipy_rho(x)[:201], rtol=1e-9, atol=1e-9)
 
 
+@pytest.mark.parametrize("reflection_coefficient", [0.1, 0.3, 0.5])
+def test_peg_leg_train_trough_to_peak_ratio_is_minus_2r_over_1_plus_r_squared(reflection_coefficient):
+    """The water-layer train of a deeper reflector has coefficients (k + 1)(-R)^k, the series of
+    1 / (1 + R z)^2 (REFERENCES.md item 10: peg-legs -2 r_1, +3 r_1^2, ...; the inverse of the Backus
+    1959 filter, verified there). Summing the series gives rho(P) = -2R / (1 + R^2): -0.5505 at
+    R = 0.3, not -R. Spike train every P = 40 samples, long enough for the tail to vanish (1e-9)."""
+    r = reflection_coefficient
+    x = np.zeros(40 * 120)
+    k = np.arange(120)
+    x[::40] = (k + 1) * (-r) ** k
+    rho = normalised_autocorrelation(x, max_lag=40)
+    assert rho[40] == pytest.approx(-2 * r / (1 + r * r), abs=1e-9)
+    assert rho[40] == pytest.approx(scipy_rho(x)[40], abs=1e-9)
+    if r == 0.3:
+        assert rho[40] == pytest.approx(-0.5505, abs=5e-5)
+
+
 def test_convolved_reverberation_example():
     """REFERENCES.md item 8 convolved example (N = 1000, 25 Hz Ricker, dt 2 ms, noise 0.01 from
     default_rng(1)): largest |rho| between lags 40 and 400 is at lag 150, value -0.365 +/- 0.05."""

@@ -323,3 +323,16 @@ def test_peg_leg_flags_follow_backus_sign_and_strength():
     assert not flags(+0.6).any()
     assert not flags(-1.5).any()
     assert not flags(-0.6, parent=False).any()
+
+
+def test_band_median_dips_equal_the_single_point_weighted_median():
+    """The whole-array weighted median equals band_median_dip point by point, panel edges included."""
+    from pitfalls.physics.crosscut import band_median_dip, band_median_dips
+    rng = np.random.default_rng(21)
+    dip = np.round(rng.normal(0, 1, (30, 80)), 1)  # rounded: many ties, as clipped dips have
+    weight = rng.uniform(0, 1, (30, 80)) * (rng.uniform(0, 1, (30, 80)) > 0.2)
+    traces = np.array([0, 1, 5, 15, 28, 29, 29, 0])
+    samples = np.array([0, 3, 40, 79, 77, 10, 0, 79])
+    expected = [band_median_dip(dip, weight, int(t), int(s), 4, 3, 12) for t, s in zip(traces, samples)]
+    np.testing.assert_array_equal(band_median_dips(dip, weight, traces, samples, 4, 3, 12, chunk=3), expected)
+    assert band_median_dips(dip, np.zeros_like(weight), traces[:2], samples[:2], 4, 3, 12).tolist() == [0.0, 0.0]

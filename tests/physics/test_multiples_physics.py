@@ -176,3 +176,18 @@ def test_time_dip_ratio_ignores_a_few_bad_picks():
     bad = rng.choice(150, 15, replace=False)
     pick[bad] += rng.normal(0, 80, 15)
     assert time_dip_ratio(pick, seafloor) == pytest.approx(2.0, abs=0.02)
+
+
+def test_true_seafloor_dip_from_both_directions():
+    """A plane seafloor dipping 0.06 m/m along the inline and 0.045 m/m across it: on the inline the time
+    dip alone gives asin(0.06) = 3.44 deg, the true dip asin(0.075) = 4.30 deg (sin(xi) = (v/2)|grad t|,
+    zero-offset time-dip of a plane; analytic)."""
+    from pitfalls.physics.multiples import seafloor_dip_angle_deg
+    spacing_m, water_m_s = 25.0, 1500.0
+    along = 800.0 + 0.06 * spacing_m * np.arange(50)
+    twt = 2000.0 * along / water_m_s
+    across_ms_per_m = np.full(50, 2000.0 * 0.045 / water_m_s)
+    inline_only = seafloor_dip_angle_deg(twt, spacing_m, water_m_s)
+    true_dip = seafloor_dip_angle_deg(twt, spacing_m, water_m_s, across_ms_per_m=across_ms_per_m)
+    assert np.allclose(inline_only, np.degrees(np.arcsin(0.06)))
+    assert np.allclose(true_dip, np.degrees(np.arcsin(0.075)))

@@ -97,3 +97,19 @@ def test_dominant_frequency_of_a_ricker_line(rules):
     ricker = (1 - 2 * (np.pi * frequency * twt_s) ** 2) * np.exp(-(np.pi * frequency * twt_s) ** 2)
     section = Section(np.tile(ricker, (10, 1)).astype(np.float32), 2.0, 0.0, 12.5, np.arange(1, 11))
     assert dominant_frequency_hz(section, window_ms=2000.0) == pytest.approx(frequency, abs=1.5)
+
+
+def test_amplitude_at_snaps_to_the_strongest_sample_and_leaves_gaps():
+    """Analytic: the strongest absolute sample within the snap window, first of equals; NaN off the data."""
+    from pitfalls.physics.seafloor import amplitude_at
+    data = np.zeros((5, 10), dtype=np.float32)
+    data[0, [3, 4, 5]] = [1.0, -3.0, 2.0]
+    data[1, [0, 1]] = [-2.0, 2.0]  # tie at the top edge: the first one
+    data[2] = np.nan  # a missing trace
+    data[3, 9] = 5.0
+    section = Section(data=data, dt_ms=2.0, t0_ms=100.0, trace_spacing_m=12.5, trace_numbers=np.arange(1, 6))
+    twt = np.array([108.0, 100.0, 104.0, 118.0, np.nan])
+    np.testing.assert_array_equal(amplitude_at(section, twt, snap_ms=2.0), [-3.0, -2.0, np.nan, 5.0, np.nan])
+    np.testing.assert_array_equal(amplitude_at(section, twt, snap_ms=0.0), [-3.0, -2.0, np.nan, 5.0, np.nan])
+    outside = np.array([98.0, 120.0, 300.0, 50.0, 110.0])
+    np.testing.assert_array_equal(amplitude_at(section, outside, snap_ms=2.0), [np.nan] * 4 + [0.0])
