@@ -234,8 +234,8 @@ def test_binary_sample_count_disagreeing_with_the_traces_is_not_called_truncated
     assert "truncated" not in result.stderr
 
 
-@pytest.mark.parametrize("interval_us, words", [(1, "1 us, outside"), (2, "2 us, outside"),
-                                                (30000, "30000 us, outside")])
+@pytest.mark.parametrize("interval_us, words", [(1, "1 us, finer than"), (2, "2 us, finer than"),
+                                                (100, "resample the section"), (30000, "30000 us, coarser than")])
 def test_absurd_sample_intervals_are_refused_before_any_allocation(tmp_path, interval_us, words):
     section = write_segy(tmp_path / "s.sgy", _wavy(), binary_dt_us=interval_us, trace_dt_us=interval_us)
     scan_refused(section, "byte 3217", words)

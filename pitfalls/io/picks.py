@@ -49,7 +49,7 @@ import io
 import math
 from dataclasses import dataclass, field
 
-from pitfalls.errors import PitfallsInputError
+from pitfalls.errors import PitfallsInputError, listed
 from pitfalls.model import PICK_KINDS
 
 NULL_VALUES = (-999.25, -9999.25)
@@ -261,7 +261,7 @@ def _missing_column(path: str, header: list[str], wanted: str, problem: str) -> 
     fix = f"name the column {wanted}"
     if close:
         fix = f"rename column '{close[0]}' to {wanted}" if close[0] != wanted else fix
-    shown = ", ".join(found) if found else "none"
+    shown = listed(found) if found else "none"
     return PitfallsInputError(path, f"column {wanted}", f"{problem} (columns found: {shown})", fix=fix)
 
 
@@ -421,6 +421,14 @@ def _shown_time(twt_ms: float) -> str:
     return "a gap" if math.isnan(twt_ms) else f"{twt_ms:g} ms"
 
 
+def _distinct_times(first: float, second: float) -> tuple[str, str]:
+    """Two different times shown so that they read differently (full precision when rounding hides it)."""
+    shown = _shown_time(first), _shown_time(second)
+    if shown[0] == shown[1]:
+        shown = tuple("a gap" if math.isnan(t) else f"{t!r} ms" for t in (first, second))
+    return shown
+
+
 def _merge_duplicates(path: str, parsed: list[_Parsed], kinds: dict[str, str],
                       geometry: str) -> tuple[list[PickRow], list[PickRow]]:
     first_of: dict[tuple, _Parsed] = {}
@@ -443,7 +451,8 @@ def _merge_duplicates(path: str, parsed: list[_Parsed], kinds: dict[str, str],
         raise PitfallsInputError(
             path, f"row {pick.row}",
             f"horizon '{pick.horizon}' at {_where(pick, geometry)} is picked twice with different times: "
-            f"{_shown_time(first.twt_ms)} in row {first.row} and {_shown_time(pick.twt_ms)} in row {pick.row}",
+            f"{_distinct_times(first.twt_ms, pick.twt_ms)[0]} in row {first.row} and "
+            f"{_distinct_times(first.twt_ms, pick.twt_ms)[1]} in row {pick.row}",
             fix="keep one of the two rows")
     return rows, merged
 

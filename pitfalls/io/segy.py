@@ -163,8 +163,13 @@ class SeismicFile:
                                      "give no sample interval", "set the sample interval in the file's headers")
         if not MIN_INTERVAL_US <= dt_us <= MAX_INTERVAL_US:
             byte = "binary header byte 3217" if binary_dt_us > 0 else "trace header byte 117"
-            raise PitfallsInputError(self.path, byte, f"gives a sample interval of {dt_us} us, outside the "
-                                     f"{MIN_INTERVAL_US}-{MAX_INTERVAL_US} us of seismic sections",
+            if 0 < dt_us < MIN_INTERVAL_US:
+                raise PitfallsInputError(self.path, byte, f"gives a sample interval of {dt_us} us, finer than the "
+                                         f"{MIN_INTERVAL_US} us the checks are sized for",
+                                         f"check the header (4 ms is 4000 us), or resample the section to "
+                                         f"{MIN_INTERVAL_US / 1000:g} ms or coarser")
+            raise PitfallsInputError(self.path, byte, f"gives a sample interval of {dt_us} us, coarser than the "
+                                     f"{MAX_INTERVAL_US} us of any seismic section",
                                      "set the sample interval in microseconds in the file's headers (4 ms is 4000)")
         if n_samples * dt_us / 1000.0 > MAX_RECORD_MS:
             raise PitfallsInputError(self.path, "binary header bytes 3217 and 3221",
@@ -422,9 +427,11 @@ MIN_SAMPLES = 2
 """Fewest samples per trace a section may have: one sample holds no reflection to measure."""
 MIN_TRACES = 2
 """Fewest traces a section may have: the checks compare neighbouring traces."""
-MIN_INTERVAL_US, MAX_INTERVAL_US = 10, 20_000
-"""Sample intervals accepted, in microseconds: from very-high-resolution site surveys (tens of us)
-to the coarsest post-stack sampling in use (a few ms), with a wide margin (common practice)."""
+MIN_INTERVAL_US, MAX_INTERVAL_US = 250, 20_000
+"""Sample intervals accepted, in microseconds. The checks' windows are set in milliseconds, so
+their working arrays grow as 1 / interval: at 0.25 ms a 600-trace line already takes several
+times the memory and time of 1 ms data, and finer sampling (site-survey data at tens of us) must
+be resampled first. 20 ms is far coarser than any post-stack section (common practice)."""
 MAX_RECORD_MS = 100_000.0
 """Longest record accepted (n_samples x interval): no post-stack section is longer (common practice)."""
 _BYTE_ORDER_MARK = 0x01020304
