@@ -317,7 +317,7 @@ class Report:
     def _repr_html_(self) -> str:
         import html
 
-        from pitfalls.report.text import CAUTION, location, time_window
+        from pitfalls.report.text import NO_FINDINGS, caution_text, location, time_window
         info = self.section
         counts = self.summary
         rows = []
@@ -329,10 +329,10 @@ class Report:
                          "This scan is incomplete.</p>" for run in self.failed)
         table = ("<table><thead><tr>" + "".join(f"<th>{name}</th>" for name in (
             "#", "severity", "id", "horizon", "where", "twt", "confidence", "what")) + "</tr></thead><tbody>"
-                 + "".join(rows) + "</tbody></table>") if rows else "<p>No pitfalls found by the detectors that ran.</p>"
+                 + "".join(rows) + "</tbody></table>") if rows else f"<p>{html.escape(NO_FINDINGS)}</p>"
         return (f"<div><p><strong>pitfalls scan</strong> of {html.escape(info.path)} "
                 f"({info.geometry.upper()}, {info.n_traces} traces): {counts['high']} high, {counts['medium']} medium, "
-                f"{counts['low']} low</p>{failed}{table}<p><em>{html.escape(CAUTION)}</em></p></div>")
+                f"{counts['low']} low</p>{failed}{table}<p><em>{html.escape(caution_text(self._result))}</em></p></div>")
 
     def __repr__(self) -> str:
         counts = self.summary

@@ -62,6 +62,9 @@ def build_parser() -> argparse.ArgumentParser:
     scan.add_argument("--output", metavar="FILE", help="write the report here instead of stdout")
     scan.add_argument("--annotated-picks", metavar="FILE.csv", help="write the pick rows back with their findings")
     scan.add_argument("--figure", metavar="FILE.png", help="draw the section, picks and findings (needs matplotlib)")
+    scan.add_argument("--figure-colours", metavar="NAME",
+                      help="matplotlib colour map for the section in --figure (default gray_r: grey, the seafloor "
+                           "reflection's sign dark)")
     scan.add_argument("--map", metavar="FILE.png",
                       help="3-D: draw each horizon's time map with the findings' footprints (needs matplotlib)")
     scan.add_argument("--geojson", metavar="FILE",
@@ -156,6 +159,12 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.figure or args.map:
         from pitfalls.report.figure import require_matplotlib
         require_matplotlib()
+    if args.figure_colours and not args.figure:
+        raise PitfallsInputError("--figure-colours", "", "colours a figure, but no --figure was asked for",
+                                 "add --figure FILE.png, or leave out --figure-colours")
+    if args.figure_colours:
+        from pitfalls.report.figure import check_colour_map
+        check_colour_map(args.figure_colours)
     jobs = _jobs(args.jobs)
     options = dict(only=only, iline_byte=_byte(args.iline_byte, 189), xline_byte=_byte(args.xline_byte, 193),
                    force_2d=args.force_2d, jobs=jobs)
@@ -169,8 +178,8 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
         from pitfalls.report.annotated import render as render_annotated
         write_atomically(args.annotated_picks, render_annotated(result))
     if args.figure:
-        from pitfalls.report.figure import draw
-        write_atomically(args.figure, draw(result, rules))
+        from pitfalls.report.figure import DEFAULT_COLOUR_MAP, draw
+        write_atomically(args.figure, draw(result, rules, colour_map=args.figure_colours or DEFAULT_COLOUR_MAP))
     if args.map:
         if result.map_view is None:
             raise PitfallsInputError("--map", "", f"{args.section} is a 2-D line; a map needs a 3-D volume",
@@ -253,11 +262,11 @@ def _describe(args: argparse.Namespace, stdout: Console) -> int:
                                  "use --2d for a line, or the byte options for a 3-D volume")
     check_run_paths(inputs={"SECTION": args.section, "--picks": args.picks, "--rules": args.rules},
                     outputs={"--output": args.output}, repeatable=("--picks",))
-    rules, _, _ = _load_rules(args.rules)
+    rules, rules_path, rules_sha = _load_rules(args.rules)
     description = describe_file(args.section, args.picks, rules, _byte(args.iline_byte, 189),
                                 _byte(args.xline_byte, 193), args.force_2d)
     if args.format == "json":
-        text = json.dumps(report.description_dict(description), indent=2) + "\n"
+        text = json.dumps(report.description_dict(description, rules_path, rules_sha), indent=2) + "\n"
     elif args.format == "markdown":
         text = report.render_markdown(description)
     else:

@@ -90,6 +90,7 @@ class _HorizonParts:
     name: str
     kind: str
     envelope: list[np.ndarray] = field(default_factory=list)
+    rms: list[np.ndarray] = field(default_factory=list)
     coherence: list[np.ndarray] = field(default_factory=list)
     runs: list[np.ndarray] = field(default_factory=list)
     spectrum: np.ndarray | None = None
@@ -164,7 +165,9 @@ def describe_panel(section: Section, picks: Picks, settings: DescribeSettings, v
         parts.samples += int(mask.sum())
         points = measure.reflection_points(data, mask, settings.point_fraction * float(np.nanmedian(rms)))
         parts.lengths.append(measure.segment_lengths(data, points, dips.dip_samples_per_trace))
-        mid_depth_m = float(velocity.depth_below_seafloor_m(np.nanmedian((top + base) / 2 - seafloor_twt_ms)))
+        below_seafloor = (top + base)[present] / 2 - seafloor_twt_ms[present]
+        below_seafloor = below_seafloor[np.isfinite(below_seafloor)]
+        mid_depth_m = float(velocity.depth_below_seafloor_m(np.median(below_seafloor))) if below_seafloor.size else 0.0
         velocity_m_s = float(velocity.interval_velocity_m_s(mid_depth_m))
         angle = measure.dip_angle_deg(dip_ms, velocity_m_s, section.trace_spacing_m)
         thickness = (base - top)[:, np.newaxis]
@@ -223,6 +226,7 @@ def _describe_horizon(parts: _HorizonParts, section: Section, twt_ms: np.ndarray
                       if runs else np.zeros(0, dtype=int))
     window = measure.window_around(section.n_samples, section.t0_ms, section.dt_ms, twt_ms,
                                    settings.pick_window_ms / 2)
+    parts.rms.append(measure.trace_rms(data, window)[picked])
     _add_spectrum(parts, *measure.mean_amplitude_spectrum(data, window, section.dt_ms))
 
 
@@ -360,6 +364,7 @@ def summarise_horizon(parts: _HorizonParts, settings: DescribeSettings, referenc
                       geometry: str) -> dict[str, Any]:
     """The horizon's entry of the description report: amplitude, frequency and continuity along the pick."""
     envelope = np.concatenate(parts.envelope) if parts.envelope else np.zeros(0)
+    rms = np.concatenate(parts.rms) if parts.rms else np.zeros(0)
     coherence = np.concatenate(parts.coherence) if parts.coherence else np.zeros(0)
     runs = np.concatenate(parts.runs) if parts.runs else np.zeros(0)
     entry: dict[str, Any] = {"horizon": parts.name, "kind": parts.kind}
@@ -369,6 +374,8 @@ def summarise_horizon(parts: _HorizonParts, settings: DescribeSettings, referenc
         entry.update({"traces": _range(parts.traces), "inlines": None, "xlines": None})
     finite = envelope[np.isfinite(envelope)]
     entry["amplitude"] = {
+        "rms_relative": float(np.nanmedian(rms) / reference) if np.isfinite(rms).any() else float("nan"),
+        "rms_lateral_variation": measure.lateral_variation(rms),
         "envelope_median_relative": float(np.median(finite) / reference) if finite.size else float("nan"),
         "envelope_peak_relative": float(np.max(finite) / reference) if finite.size else float("nan"),
         "envelope_lateral_variation": measure.lateral_variation(envelope),

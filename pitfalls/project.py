@@ -238,11 +238,12 @@ def rank_across(found: Sequence[ProjectFinding], labels: Sequence[str],
                 ranking: Mapping[str, Any]) -> tuple[ProjectFinding, ...]:
     """Findings of every section in one order, best first, numbered from 1.
 
-    Each section's findings keep the score their own scan gave them (with its repeat
-    discount); mis-ties are scored as any finding of the section they are placed on, and
-    dropped below the rules' ``min_confidence`` like any other. Ties in score are broken by
-    severity, id, the section's place in the project file, horizon and first trace, so the
-    order never depends on which worker finished first.
+    Severity first (every high before every medium before every low), then score. Each
+    section's findings keep the score their own scan gave them (with its repeat discount);
+    mis-ties are scored as any finding of the section they are placed on, and dropped below
+    the rules' ``min_confidence`` like any other. Equal scores are ordered by id, the
+    section's place in the project file, horizon and first trace, so the order never depends
+    on which worker finished first.
     """
     position = {label: index for index, label in enumerate(labels)}
     kept = [item for item in found if item.finding.confidence >= ranking["min_confidence"]]
@@ -250,7 +251,7 @@ def rank_across(found: Sequence[ProjectFinding], labels: Sequence[str],
     def order(item: ProjectFinding) -> tuple:
         f = item.finding
         first = f.traces[0] if f.traces else (f.inlines[0] if f.inlines else 0)
-        return (-round(f.score, 12), SEVERITY_ORDER[f.severity], f.id, position[item.section], f.horizon or "",
+        return (SEVERITY_ORDER[f.severity], -round(f.score, 12), f.id, position[item.section], f.horizon or "",
                 first, f.title)
 
     ordered = sorted(kept, key=order)

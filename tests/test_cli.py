@@ -110,6 +110,27 @@ def test_rules_are_named_as_typed_or_as_built_in_defaults(line, skipped_picks, t
     assert str(tmp_path) not in json.dumps(report)
 
 
+def test_a_scan_without_findings_says_it_is_not_a_clearance(line, tmp_path):
+    jsonschema = pytest.importorskip("jsonschema")
+    clean = write_picks(tmp_path / "clean.csv", [f"H1,{t},500.0,horizon" for t in range(1, N_TRACES + 1)])
+    result = pitfalls("scan", line, "--picks", clean, "--format", "json")
+    report = json.loads(result.stdout)
+    assert result.returncode == 0 and report["findings"] == []
+    with open(os.path.join(os.path.dirname(__file__), "..", "pitfalls", "data", "report.schema.json")) as handle:
+        schema = json.load(handle)
+    assert "caution" in schema["required"]
+    jsonschema.validate(report, schema)
+    with pytest.raises(jsonschema.ValidationError):
+        jsonschema.validate({key: value for key, value in report.items() if key != "caution"}, schema)
+    caution = report["caution"]
+    for words in ("not a clearance", "marine post-stack", "stated velocity function", "1500 m/s",
+                  "qualified interpreters"):
+        assert words in caution, words
+    for fmt in ("terminal", "markdown"):
+        text = " ".join(pitfalls("scan", line, "--picks", clean, "--format", fmt).stdout.replace("│", " ").split())
+        assert "This is not a clearance" in text and "marine post-stack" in text, fmt
+
+
 def test_json_is_one_document_valid_against_schema(line, skipped_picks):
     jsonschema = pytest.importorskip("jsonschema")
     result = pitfalls("scan", line, "--picks", skipped_picks, "--format", "json")

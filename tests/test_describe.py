@@ -219,3 +219,12 @@ def test_frequency_along_an_isolated_reflection(rules):
     mid = next(h for h in description.horizons if h["horizon"] == "mid")
     assert mid["frequency"]["dominant_hz"] == pytest.approx(FREQUENCY_HZ, abs=1.5)
     assert mid["amplitude"]["envelope_lateral_variation"] < 0.01
+
+
+def test_automatic_seafloor_bounds_the_first_interval(rules):
+    """Without a seafloor pick the automatic seafloor (the strong event at 200 ms) is the first bound."""
+    base = np.full(N_TRACES, 800.0)
+    picks = Picks(picks_of(base).horizons[1:])
+    description = describe_section(section_of(bound(background(), base)), picks, rules)
+    assert [(i["top"], i["base"]) for i in description.intervals][0] == ("seafloor (automatic)", "top")
+    assert description.seafloor_source == "automatic"

@@ -117,8 +117,8 @@ def test_report_layout(report):
     assert all(s["status"] == "ran" and s["error"] is None for s in report["sections"])
     assert [f["rank"] for f in report["findings"]] == list(range(1, len(report["findings"]) + 1))
     assert all(f["section"] in {s["path"] for s in report["sections"]} for f in report["findings"])
-    scores = [f["score"] for f in report["findings"]]
-    assert scores == sorted(scores, reverse=True)
+    order = [({"high": 0, "medium": 1, "low": 2}[f["severity"]], -f["score"]) for f in report["findings"]]
+    assert order == sorted(order)  # severity first, then score
     assert report["summary"]["high"] == sum(f["severity"] == "high" for f in report["findings"])
 
 
@@ -209,3 +209,34 @@ def test_markdown_and_terminal_name_the_section_of_every_finding(grid):
     assert terminal.index("Sections") < terminal.index("Ties") < terminal.index("Findings across the project")
     assert "QV26-3D.sgy IL 103 XL 301" in terminal and "Caution" in terminal
     assert terminal.count("pick.mis-tie") == 5
+
+
+def test_a_survey_listed_before_a_line_ties_the_same_way(grid, tmp_path):
+    """The survey as section a and the late-picked line as b: the same tie, the residual's sign reversed."""
+    folder = os.path.dirname(grid.project)
+    project = write_project_file(str(tmp_path / "project.yaml"), [
+        (os.path.join(folder, "QV26-3D.sgy"), [os.path.join(folder, "QV26-3D_picks.csv")]),
+        (os.path.join(folder, f"{SKIPPED}.sgy"), [os.path.join(folder, f"{SKIPPED}_picks.csv")]),
+    ])
+    rules, path, sha = load_rules(None, detectors.rule_keys())
+    with LocalRunner(1) as runner:
+        report = report_dict(run_project(read_project(project), rules, path, sha, runner))
+    assert len(report["ties"]) == 1
+    tie = report["ties"][0]
+    assert tie["location_a"] == "IL 103 XL 301" and tie["location_b"] == "tr 16"
+    (finding,) = misties(report)
+    assert finding["horizon"] == "H2" and finding["evidence"]["residual_ms"] == pytest.approx(40.0, abs=4.0)
+    assert finding["evidence"]["explanation"] == "loop" and finding["evidence"]["loops"] == 1
+
+
+def test_the_caution_states_scope_and_that_no_finding_is_no_clearance(grid, tmp_path):
+    """A project whose one line has no picks finds nothing: the report says this is not a clearance."""
+    folder = os.path.dirname(grid.project)
+    project = write_project_file(str(tmp_path / "project.yaml"), [(os.path.join(folder, "QV26-101.sgy"), [])])
+    rules, path, sha = load_rules(None, detectors.rule_keys())
+    with LocalRunner(1) as runner:
+        result = run_project(read_project(project), rules, path, sha, runner)
+    report = report_dict(result)
+    assert report["findings"] == []
+    assert "does not replace review" in report["caution"] and "marine post-stack" in report["caution"]
+    assert "not a clearance" in report["caution"] and "not a clearance" in render_markdown(result)

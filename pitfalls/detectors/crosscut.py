@@ -2,8 +2,9 @@
 
 Some strong reflectors are not bedding but a boundary set by temperature and pressure: the
 base of gas-hydrate stability (hydrate-bearing sediment over free gas) or a diagenetic front
-such as the opal-A to opal-CT change. They follow isotherms, so they keep a nearly constant
-time below the seafloor and cut across the layering. Read as stratigraphy they make false
+such as the opal-A to opal-CT change. The front follows an isotherm; the hydrate base follows a
+pressure-temperature boundary and lies deeper below the seafloor where the water is deeper. Both
+keep a nearly constant time below the seafloor and cut across the layering. Read as stratigraphy they make false
 unconformities and false closures, and a horizon that slides onto one is miscorrelated.
 
 Seafloor-parallel events. The panel is mapped to two-way time below the seafloor, where such
@@ -138,7 +139,7 @@ KINDS = {
     ),
     "pick-follows-boundary": (
         "A picked horizon leaves the strata and runs along a seafloor-parallel event that cuts across them.",
-        "The horizon is miscorrelated from that trace on: maps, thicknesses and closures built on it follow a temperature boundary, not a bed.",
+        "The horizon is miscorrelated from that trace on: maps, thicknesses and closures built on it follow a pressure- or temperature-set boundary, not a bed.",
         "Go to the trace named in the evidence, follow the original reflection across the boundary and re-pick it; keep the boundary as a separate surface if it matters.",
     ),
     "pick.crosses-reflections": (

@@ -71,7 +71,8 @@ RULE_KEYS = {
 
 
 def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
-    """Pull-downs and push-ups on every picked horizon of one panel."""
+    """Pull-downs and push-ups on every picked horizon of one panel (seafloor, dominant frequency
+    and velocity from the shared context)."""
     return find_overburden_effects(block, picks, context.seafloor.twt_ms, context.dominant_frequency_hz,
                                    context.velocity, rules[NAME])
 

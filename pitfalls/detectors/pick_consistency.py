@@ -42,6 +42,8 @@ from scipy.ndimage import median_filter
 
 from pitfalls.context import Context
 from pitfalls.model import Finding, Horizon, Picks, Section
+from pitfalls.physics import character
+from pitfalls.physics.description import instantaneous_frequency_hz
 from pitfalls.physics.runs import true_runs
 from pitfalls.physics.seafloor import amplitude_at, majority_sign
 
@@ -58,6 +60,11 @@ KINDS = {
         "A flip is not always a picking error: gas below a top reverses its reflection, and tuning or a lithology change can too. A pick that moved to another reflector misplaces the map; a real reversal is itself worth naming. A flip over a picked contact is graded one step lower, since a fluid is the likelier cause there.",
         "Look at the waveform along the horizon at the flip; if the event is the same and the polarity truly reverses, name the cause (a gas or fluid effect, tuning, lithology); if the pick has moved, re-pick one phase throughout.",
     ),
+    "character-change": (
+        "The amplitude, frequency or continuity along the pick changes suddenly at a trace where the reflections above and below it do not change.",
+        "This is where a pick most often leaves its reflector for a neighbouring one (through a crossing event, a tuning zone or a gap); the map then joins two different surfaces. A real change of a single reflector (a fluid effect, a pinch-out) also shows here and is worth naming.",
+        "Follow the reflector across the named trace on the section, flattened on the pick if you can; see whether the pick stays on the same event; if it does, look for a fluid, tuning or facies cause of the change.",
+    ),
 }
 RULE_KEYS = {
     "trend_traces": (int, 1, 100),
@@ -69,11 +76,19 @@ RULE_KEYS = {
     "min_run_traces": (int, 1, 100000),
     "medium_min_traces": (int, 1, 100000),
     "max_gap_traces": (int, 0, 1000),
+    "character_window_traces": (int, 2, 1000),
+    "character_amplitude_ratio": (float, 1.0, 100.0),
+    "character_frequency_ratio": (float, 1.0, 10.0),
+    "character_coherence_change": (float, 0.0, 1.0),
+    "character_half_window_ms": (float, 1.0, 500.0),
+    "character_guard_ms": (float, 0.0, 1000.0),
+    "character_band_ms": (float, 1.0, 5000.0),
+    "character_neighbour_fraction": (float, 0.0, 1.0),
 }
 
 
 def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, Any]) -> list[Finding]:
-    """Cycle skips and polarity flips on every picked horizon of one panel."""
+    """Cycle skips, polarity flips and changes of character on every picked horizon of one panel."""
     section = block
     settings = rules[NAME]
     frequency_hz = context.dominant_frequency_hz
@@ -86,6 +101,67 @@ def detect(block: Section, context: Context, picks: Picks, rules: Mapping[str, A
         if horizon.kind != "seafloor":
             contacts = [other for other in picks.of_kind("contact") if other is not horizon]
             findings.extend(_polarity_flips(section, horizon, contacts, settings))
+    window = int(settings["character_window_traces"])
+    followed = [h for h in picks.horizons if h.kind != "seafloor" and h.n_points >= 2 * window + 1]
+    if followed:
+        frequency, power = instantaneous_frequency_hz(context.live_data, section.dt_ms)
+        for horizon in followed:
+            findings.extend(_character_changes(section, context, horizon, frequency, power, settings))
+    return findings
+
+
+def _character_changes(section: Section, context: Context, horizon: Horizon, frequency: np.ndarray,
+                       power: np.ndarray, settings: Mapping[str, Any]) -> list[Finding]:
+    """Low notes where the pick's character steps and the bands above and below it do not."""
+    window = int(settings["character_window_traces"])
+    envelope, coherence = context.envelope, context.dip.coherence
+    twt = horizon.twt_ms
+    args = (envelope, frequency, power, coherence, twt, section.t0_ms, section.dt_ms)
+    pick = character.along_pick(*args, float(settings["character_half_window_ms"]))
+    guard, band = float(settings["character_guard_ms"]), float(settings["character_band_ms"])
+    neighbours = [character.in_band(*args, -band, -guard), character.in_band(*args, guard, band)]
+    thresholds = {"amplitude": float(np.log(settings["character_amplitude_ratio"])),
+                  "frequency": float(np.log(settings["character_frequency_ratio"])),
+                  "continuity": float(settings["character_coherence_change"])}
+    changes = character.character_changes(pick, neighbours, window, thresholds,
+                                          float(settings["character_neighbour_fraction"]))
+    findings: list[Finding] = []
+    groups: list[list[character.CharacterChange]] = []
+    for change in changes:  # changes of several measures at about one trace make one note
+        if groups and change.index - groups[-1][0].index <= window // 2:
+            groups[-1].append(change)
+        else:
+            groups.append([change])
+    for group in groups:
+        index = group[0].index
+        first, last = max(0, index - window), min(section.n_traces - 1, index + window - 1)
+        change_number = int(section.trace_numbers[index])
+        evidence: dict[str, Any] = {"change_trace": change_number, "window_traces": window,
+                                    "measures": ",".join(c.measure for c in group)}
+        strength = 0.0
+        for change in group:
+            threshold = thresholds[change.measure]
+            strength = max(strength, abs(change.step) / threshold)
+            if change.measure == "amplitude":
+                evidence.update(amplitude_before=change.before, amplitude_after=change.after,
+                                amplitude_ratio=float(np.exp(change.step)))
+            elif change.measure == "frequency":
+                evidence.update(frequency_before_hz=change.before, frequency_after_hz=change.after)
+            else:
+                evidence.update(coherence_before=change.before, coherence_after=change.after)
+        strongest = max(group, key=lambda c: abs(c.step) / thresholds[c.measure])
+        evidence["step"] = strongest.step
+        evidence["neighbour_step"] = strongest.neighbour_step
+        quiet = 1.0 - min(1.0, max(0.0, strongest.neighbour_step) / abs(strongest.step))
+        confidence = float(np.clip(0.5 * min(2.0, strength) * quiet, 0.0, 1.0))
+        times = twt[first:last + 1][np.isfinite(twt[first:last + 1])]
+        findings.append(Finding(
+            id="pick.character-change", detector=NAME, severity="low", confidence=confidence,
+            title=(f"{horizon.name} changes {' and '.join(c.measure for c in group)} at trace {change_number} "
+                   "where the reflections above and below do not"),
+            advice=KINDS["character-change"][2], horizon=horizon.name,
+            traces=(int(section.trace_numbers[first]), int(section.trace_numbers[last])),
+            twt_ms=(float(times.min()), float(times.max())) if times.size else None, evidence=evidence))
     return findings
 
 

@@ -30,8 +30,9 @@ class LocalRunner:
     def map(self, function: Callable[[Any], Any], items: Sequence[Any]) -> list:
         if self.jobs == 1 or len(items) <= 1:
             return [function(item) for item in items]
-        if self._pool is None:
-            self._pool = ProcessPoolExecutor(max_workers=self.jobs, mp_context=multiprocessing.get_context("spawn"))
+        if self._pool is None:  # no more workers than the first batch of tasks needs
+            self._pool = ProcessPoolExecutor(max_workers=min(self.jobs, len(items)),
+                                             mp_context=multiprocessing.get_context("spawn"))
         return list(self._pool.map(function, items))
 
     def close(self) -> None:

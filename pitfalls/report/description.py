@@ -16,7 +16,7 @@ from rich.text import Text
 from pitfalls import __version__
 from pitfalls.describe import Description
 from pitfalls.report.json_report import _plain
-from pitfalls.report.text import CAUTION, number
+from pitfalls.report.text import CAUTION, SCOPE, number
 
 SCHEMA = "pitfalls-description/1"
 DESCRIPTION_NOTE = (
@@ -26,8 +26,9 @@ DESCRIPTION_NOTE = (
 )
 
 
-def description_dict(description: Description) -> dict[str, Any]:
-    """The whole description as the contract lays it out."""
+def description_dict(description: Description, rules_path: str | None = None,
+                     rules_sha256: str | None = None) -> dict[str, Any]:
+    """The whole description as the contract lays it out (with the rules file used, when given)."""
     info = description.section
     velocity = description.velocity
     return _plain({
@@ -43,10 +44,11 @@ def description_dict(description: Description) -> dict[str, Any]:
                                  "seafloor_velocity_m_s": velocity.seafloor_velocity_m_s,
                                  "gradient_per_s": velocity.gradient_per_s,
                                  "max_velocity_m_s": velocity.max_velocity_m_s}},
+        "rules": {"path": rules_path, "sha256": rules_sha256},
         "intervals": [dict(entry) for entry in description.intervals],
         "horizons": [dict(entry) for entry in description.horizons],
         "note": DESCRIPTION_NOTE,
-        "caution": CAUTION,
+        "caution": f"{CAUTION} {SCOPE}",
     })
 
 
@@ -108,7 +110,7 @@ def render_markdown(description: Description) -> str:
     lines += ["## Along the picks", "", "| horizon | kind | where | description |", "|---|---|---|---|"]
     for entry in description.horizons:
         lines.append(f"| {entry['horizon']} | {entry['kind']} | {_where(entry)} | {_horizon_sentence(entry)} |")
-    lines += ["", DESCRIPTION_NOTE, "", "## Caution", "", CAUTION, ""]
+    lines += ["", DESCRIPTION_NOTE, "", "## Caution", "", f"{CAUTION} {SCOPE}", ""]
     return "\n".join(lines)
 
 
@@ -144,5 +146,5 @@ def render_terminal(description: Description) -> Group:
     parts: list = [Panel(header, title="pitfalls describe", border_style="blue"), intervals]
     if stretches:
         parts.append(Text("Where along the line:\n" + "\n".join(stretches)))
-    parts += [horizons, Panel(Text(CAUTION), title="Caution", border_style="magenta")]
+    parts += [horizons, Panel(Text(f"{CAUTION} {SCOPE}"), title="Caution", border_style="magenta")]
     return Group(*parts)

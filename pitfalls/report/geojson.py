@@ -86,7 +86,7 @@ def _footprint_polygon(inlines: tuple[int, int], xlines: tuple[int, int], grid: 
     corners_i = np.array([i_low, i_low, i_high, i_high, i_low])
     corners_j = np.array([j_low, j_high, j_high, j_low, j_low])
     xs, ys = grid.xy(corners_i, corners_j)
-    ring = [[float(x), float(y)] for x, y in zip(xs, ys)]
+    ring = [[round(float(x), 2), round(float(y), 2)] for x, y in zip(xs, ys)]  # centimetres
     if _signed_area(ring) < 0:  # RFC 7946 section 3.1.6: exterior rings counterclockwise
         ring.reverse()
     return {"type": "Polygon", "coordinates": [ring]}

@@ -11,7 +11,7 @@ from typing import Any
 from pitfalls import __version__
 from pitfalls.engine import ScanResult
 from pitfalls.model import Finding
-from pitfalls.report.text import CAUTION
+from pitfalls.report.text import caution_text
 
 SCHEMA = "pitfalls-report/1"
 
@@ -90,5 +90,5 @@ def report_dict(result: ScanResult) -> dict[str, Any]:
         "findings": [finding_dict(f) for f in result.findings],
         "summary": {severity: sum(1 for f in result.findings if f.severity == severity)
                     for severity in ("high", "medium", "low")},
-        "caution": CAUTION,
+        "caution": caution_text(result),
     }

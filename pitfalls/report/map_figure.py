@@ -53,7 +53,7 @@ def draw_map(result: Any) -> bytes:
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 
-    from pitfalls.report.figure import SEVERITY_COLOUR
+    from pitfalls.report.colours import NEUTRAL, SEVERITY_COLOUR
 
     names = [h.name for h in view.horizons]
     panels = panels_for(result.findings, names) or [None]
@@ -75,7 +75,7 @@ def draw_map(result: Any) -> bytes:
         masked = np.ma.masked_invalid(times)
         image = axis.pcolormesh(x_m, y_m, masked, cmap="Greys", shading="nearest")
         if np.count_nonzero(np.isfinite(times)) > 4 and np.nanmax(times) > np.nanmin(times):
-            contours = axis.contour(x_m, y_m, masked, levels=8, colors="#404040", linewidths=0.5)
+            contours = axis.contour(x_m, y_m, masked, levels=8, colors=NEUTRAL, linewidths=0.5)
             axis.clabel(contours, fontsize=6, fmt="%.0f")
         figure.colorbar(image, ax=axis, label="two-way time, ms", shrink=0.8)
         drawn = 0

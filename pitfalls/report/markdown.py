@@ -2,7 +2,15 @@
 from __future__ import annotations
 
 from pitfalls.engine import ScanResult
-from pitfalls.report.text import CAUTION, location, number, section_lines, time_window, worst_by_horizon
+from pitfalls.report.text import (
+    NO_FINDINGS,
+    caution_text,
+    location,
+    number,
+    section_lines,
+    time_window,
+    worst_by_horizon,
+)
 
 
 def _cell(text: str) -> str:
@@ -28,7 +36,7 @@ def render(result: ScanResult) -> str:
         lines.append(f"| {_cell(pick.horizon)} | {pick.kind} | {pick.n_points} | {pick.n_gaps} | {count} | {label} |")
     lines += ["", "## Findings", ""]
     if not result.findings:
-        lines += ["No pitfalls found by the detectors that ran.", ""]
+        lines += [f"**{NO_FINDINGS}**", ""]
     else:
         lines += ["| # | severity | id | horizon | where | twt | confidence | what |", "|---:|---|---|---|---|---|---:|---|"]
         for f in result.findings:
@@ -40,5 +48,5 @@ def render(result: ScanResult) -> str:
                       f"{location(f)}, {time_window(f)}; confidence {f.confidence:.2f}, score {f.score:.2f}.", ""]
             lines += [f"- {key}: {number(value)}" for key, value in f.evidence.items()]
             lines += ["", f"**Check:** {f.advice}", ""]
-    lines += ["## Caution", "", CAUTION, ""]
+    lines += ["## Caution", "", caution_text(result), ""]
     return "\n".join(lines)

@@ -13,11 +13,21 @@ from rich.text import Text
 from pitfalls import __version__
 from pitfalls.project import ProjectResult, SectionOutcome
 from pitfalls.report.json_report import _plain, finding_dict
-from pitfalls.report.text import CAUTION, location, number, time_window
+from pitfalls.report.text import CAUTION, NO_FINDINGS, SCOPE, location, number, time_window
 
 SCHEMA = "pitfalls-project/1"
 SEVERITIES = ("high", "medium", "low")
 SEVERITY_STYLE = {"high": "bold red", "medium": "yellow", "low": "cyan"}
+
+
+def project_caution(result: ProjectResult) -> str:
+    """The caution every project report ends with: what the tool is, its scope, where the depths come
+    from, and, when nothing was found, that this is not a clearance."""
+    parts = [CAUTION, SCOPE, "Depths in each section's findings come from the velocity function its scan states "
+             "(the rules' unless the project file names one); a different velocity moves every depth."]
+    if not result.findings:
+        parts.append(NO_FINDINGS)
+    return " ".join(parts)
 
 
 def _counts(result: ProjectResult, label: str | None = None) -> dict[str, int]:
@@ -73,7 +83,7 @@ def report_dict(result: ProjectResult) -> dict[str, Any]:
         "summary": {**_counts(result), "sections": len(result.sections),
                     "sections_failed": sum(outcome.status == "failed" for outcome in result.sections),
                     "ties": len(result.ties)},
-        "caution": CAUTION,
+        "caution": project_caution(result),
     }
 
 
@@ -122,7 +132,7 @@ def render_markdown(result: ProjectResult) -> str:
         lines.append("No two sections cross (or none has CDP X/Y in its headers).")
     lines += ["", "## Findings, most important first", ""]
     if not result.findings:
-        lines += ["No pitfalls found by the checks that ran. This is not a clearance of the interpretation.", ""]
+        lines += [NO_FINDINGS, ""]
     else:
         lines += ["| # | severity | id | section | horizon | where | twt | confidence | what |",
                   "|---:|---|---|---|---|---|---|---:|---|"]
@@ -137,7 +147,7 @@ def render_markdown(result: ProjectResult) -> str:
                       f"{location(f)}, {time_window(f)}; confidence {f.confidence:.2f}, score {f.score:.2f}.", ""]
             lines += [f"- {key}: {number(value)}" for key, value in f.evidence.items()]
             lines += ["", f"**Check:** {f.advice}", ""]
-    lines += ["## Caution", "", CAUTION, ""]
+    lines += ["## Caution", "", project_caution(result), ""]
     return "\n".join(lines)
 
 
@@ -187,6 +197,6 @@ def render_terminal(result: ProjectResult) -> Group:
             findings.add_row(str(f.rank), Text(f.severity, style=SEVERITY_STYLE[f.severity]), cell)
         parts.append(findings)
     else:
-        parts.append(Text("No pitfalls found by the checks that ran. This is not a clearance of the interpretation."))
-    parts.append(Panel(Text(CAUTION), title="Caution", border_style="magenta"))
+        parts.append(Text(NO_FINDINGS))
+    parts.append(Panel(Text(project_caution(result)), title="Caution", border_style="magenta"))
     return Group(*parts)

@@ -7,9 +7,19 @@ from rich.table import Table
 from rich.text import Text
 
 from pitfalls.engine import ScanResult
-from pitfalls.report.text import CAUTION, location, number, section_lines, time_window, worst_by_horizon
+from pitfalls.report.colours import severity_style
+from pitfalls.report.text import (
+    NO_FINDINGS,
+    caution_text,
+    location,
+    number,
+    section_lines,
+    time_window,
+    worst_by_horizon,
+)
 
-SEVERITY_STYLE = {"high": "bold red", "medium": "yellow", "low": "cyan"}
+SEVERITY_STYLE = {severity: severity_style(severity) for severity in ("high", "medium", "low")}
+"""The severity colours of the figure (``pitfalls.report.colours``), so both read alike."""
 
 
 def render(result: ScanResult) -> Group:
@@ -30,8 +40,8 @@ def render(result: ScanResult) -> Group:
         parts.append(_findings_table(result))
         parts.extend(_details(result))
     else:
-        parts.append(Text("No pitfalls found by the detectors that ran."))
-    parts.append(Panel(Text(CAUTION), title="Caution", border_style="magenta"))
+        parts.append(Text(NO_FINDINGS, style="bold"))
+    parts.append(Panel(Text(caution_text(result)), title="Caution", border_style="magenta"))
     return Group(*parts)
 
 

@@ -14,6 +14,42 @@ CAUTION = (
 )
 
 
+NO_FINDINGS = (
+    "No finding reached this report. This is not a clearance: the detectors look only for the "
+    "pitfalls they are built for, on this data and with these rules, and the interpretation still "
+    "needs review by qualified interpreters."
+)
+
+SCOPE = (
+    "Scope: the checks assume marine post-stack data (a water layer, a seafloor reflection to "
+    "measure against, stacked traces); on land or pre-stack data their findings do not hold."
+)
+
+
+def velocity_sentence(velocity: Any) -> str:
+    """Which velocity function the depths in the report came from, in words."""
+    if velocity is None:
+        return "Depths come from the velocity function stated for each section; a different velocity moves every depth."
+    return (f"Depths come from the stated velocity function: water at {velocity.water_velocity_m_s:g} m/s down "
+            f"to the seafloor, then {velocity.seafloor_velocity_m_s:g} m/s increasing by "
+            f"{velocity.gradient_per_s:g} m/s per metre below the seafloor, at most "
+            f"{velocity.max_velocity_m_s:g} m/s; a different velocity moves every depth.")
+
+
+def general_caution(found_anything: bool, velocity: Any = None) -> str:
+    """The caution, the scope and the velocity function, and, when nothing was found, that this is not
+    a clearance."""
+    parts = [CAUTION, SCOPE, velocity_sentence(velocity)]
+    if not found_anything:
+        parts.append(NO_FINDINGS)
+    return " ".join(parts)
+
+
+def caution_text(result: ScanResult) -> str:
+    """The caution every scan report ends with (see :func:`general_caution`)."""
+    return general_caution(bool(result.findings), getattr(result, "velocity", None))
+
+
 def location(finding: Finding) -> str:
     """Where a finding is, as the pick file numbers it."""
     if finding.inlines is not None:
