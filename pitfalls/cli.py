@@ -392,6 +392,14 @@ def main(argv: Sequence[str] | None = None) -> int:
     except Terminated:
         _stopped("terminated (SIGTERM)")
         return EXIT_SIGTERM
+    except Exception as err:
+        # A signal that lands inside a compiled library's start-up can come out as that library's
+        # ImportError (or other error) with the interruption in its chain: still an interruption.
+        stop = _interruption_in(err)
+        if stop is None:
+            raise
+        _stopped("interrupted (SIGINT)" if stop is KeyboardInterrupt else "terminated (SIGTERM)")
+        return EXIT_SIGINT if stop is KeyboardInterrupt else EXIT_SIGTERM
     finally:
         if previous is not None:
             signal.signal(signal.SIGTERM, previous)
@@ -417,6 +425,20 @@ def _run(arguments: Sequence[str]) -> int:
             return _explain(args, stdout)
         build_parser().print_help()
         return EXIT_INPUT
+
+
+def _interruption_in(err: BaseException) -> type | None:
+    """KeyboardInterrupt or Terminated when either is in ``err``'s chain of causes, else None."""
+    seen: set[int] = set()
+    current: BaseException | None = err
+    while current is not None and id(current) not in seen:
+        seen.add(id(current))
+        if isinstance(current, KeyboardInterrupt):
+            return KeyboardInterrupt
+        if isinstance(current, Terminated):
+            return Terminated
+        current = current.__cause__ or current.__context__
+    return None
 
 
 def _raise_terminated(signum: int, frame: object) -> None:

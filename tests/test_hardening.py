@@ -363,3 +363,16 @@ def test_json_report_carries_what_the_terminal_shows(tmp_path, run_files):
     assert all("message" in run for run in report["detectors"])
     terminal = pitfalls("scan", section, "--picks", picks, "--gate", "off").stdout
     assert not re.search(r"\bnan\b", terminal, re.IGNORECASE)
+
+
+def test_an_interruption_inside_a_library_import_counts_as_an_interruption():
+    from pitfalls.cli import Terminated, _interruption_in
+    for stop in (KeyboardInterrupt, Terminated):
+        try:
+            try:
+                raise stop()
+            except BaseException:
+                raise ImportError("the library's own message")
+        except ImportError as error:
+            assert _interruption_in(error) is stop
+    assert _interruption_in(ValueError("plain")) is None
