@@ -1,7 +1,10 @@
 """The command line: the only module that prints or exits.
 
 Exit codes: 0 the scan ran and no finding reached ``--gate``; 1 a finding reached it or a
-detector failed; 2 bad input or usage (one line on stderr, no traceback).
+detector failed; 2 bad input or usage (one line on stderr, no traceback); 130 stopped by
+SIGINT and 143 by SIGTERM (one line, no traceback, no temporary file left beside an output).
+The heavy modules (numpy, scipy, rich, the detectors) are imported inside :func:`main`, so
+an interruption while they load is handled like any other.
 """
 from __future__ import annotations
 
@@ -9,15 +12,25 @@ import argparse
 import io
 import json
 import os
+import signal
 import sys
-from typing import Sequence
+import warnings
+from typing import TYPE_CHECKING, Sequence
 
 from pitfalls import __version__
 from pitfalls.errors import PitfallsInputError
-from pitfalls.io.output import write_whole
+from pitfalls.io.output import check_output_folder, check_run_paths, write_whole
+
+if TYPE_CHECKING:
+    from rich.console import Console
 
 EXIT_OK, EXIT_FINDINGS, EXIT_INPUT = 0, 1, 2
+EXIT_SIGINT, EXIT_SIGTERM = 130, 143
 RULES_HELP = "YAML rules overriding any subset of the built-in defaults (a copy is rules/default.yaml in the repository)"
+
+
+class Terminated(BaseException):
+    """SIGTERM arrived: unwinds like KeyboardInterrupt, so temporary files are removed on the way out."""
 
 
 class _Parser(argparse.ArgumentParser):
@@ -144,10 +157,14 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.force_2d and (args.iline_byte or args.xline_byte):
         raise PitfallsInputError("command line", "", "--2d cannot be combined with --iline-byte/--xline-byte",
                                  "use --2d for a line, or the byte options for a 3-D volume")
-    inputs = {os.path.abspath(p) for p in [args.section, *args.picks, *([args.accepted] if args.accepted else [])]}
-    for target in (args.output, args.annotated_picks, args.figure, args.map, args.geojson, args.write_accepted):
-        if target and os.path.abspath(target) in inputs:
-            raise PitfallsInputError(target, "", "is one of the input files", "write the output somewhere else; inputs are never changed")
+    if args.annotated_picks and not args.picks:
+        raise PitfallsInputError("--annotated-picks", "", "needs at least one --picks file", "add --picks FILE")
+    check_run_paths(inputs={"SECTION": args.section, "--picks": args.picks, "--rules": args.rules,
+                            "--velocity": args.velocity, "--accepted": args.accepted},
+                    outputs={"--output": args.output, "--annotated-picks": args.annotated_picks,
+                             "--figure": args.figure, "--map": args.map, "--geojson": args.geojson,
+                             "--write-accepted": args.write_accepted},
+                    repeatable=("--picks",))
     if args.figure or args.map:
         from pitfalls.report.figure import require_matplotlib
         require_matplotlib()
@@ -170,8 +187,6 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
     if args.write_accepted:
         write_atomically(args.write_accepted, report.accepted_template())
     if args.annotated_picks:
-        if not args.picks:
-            raise PitfallsInputError("--annotated-picks", "", "needs at least one --picks file", "add --picks FILE")
         from pitfalls.report.annotated import render as render_annotated
         write_atomically(args.annotated_picks, render_annotated(result))
     if args.figure:
@@ -191,6 +206,11 @@ def _scan(args: argparse.Namespace, stdout: Console) -> int:
         collection = feature_collection(result.findings, result.coordinates, args.section)
         write_atomically(args.geojson, json.dumps(collection, indent=1) + "\n")
     return EXIT_OK if report.passes(args.gate) else EXIT_FINDINGS
+
+
+def _byte(given: int | None, default: int) -> int:
+    """The header byte option, or its default when not given (0 is a value, refused by the reader)."""
+    return default if given is None else given
 
 
 def _jobs(requested: int | None) -> int:
@@ -240,23 +260,24 @@ def _emit(report, fmt: str, output: str | None, quiet: bool, stdout: Console, de
 
 
 def _describe(args: argparse.Namespace, stdout: Console) -> int:
+    from rich.console import Console
+
     from pitfalls.describe import describe_file
     from pitfalls.report import description as report
     if args.force_2d and (args.iline_byte or args.xline_byte):
         raise PitfallsInputError("command line", "", "--2d cannot be combined with --iline-byte/--xline-byte",
                                  "use --2d for a line, or the byte options for a 3-D volume")
+    check_run_paths(inputs={"SECTION": args.section, "--picks": args.picks, "--rules": args.rules},
+                    outputs={"--output": args.output}, repeatable=("--picks",))
     rules, rules_path, rules_sha = _load_rules(args.rules)
-    if args.output and os.path.abspath(args.output) in {os.path.abspath(p) for p in [args.section, *args.picks]}:
-        raise PitfallsInputError(args.output, "", "is one of the input files", "write the output somewhere else; inputs are never changed")
-    description = describe_file(args.section, args.picks, rules, args.iline_byte or 189, args.xline_byte or 193,
-                                args.force_2d)
+    description = describe_file(args.section, args.picks, rules, _byte(args.iline_byte, 189),
+                                _byte(args.xline_byte, 193), args.force_2d)
     if args.format == "json":
         text = json.dumps(report.description_dict(description, rules_path, rules_sha), indent=2) + "\n"
     elif args.format == "markdown":
         text = report.render_markdown(description)
     else:
         buffer = io.StringIO()
-        from rich.console import Console
         Console(file=buffer, width=120, color_system=None, force_terminal=False).print(report.render_terminal(description))
         text = buffer.getvalue()
     if args.output:
@@ -276,12 +297,11 @@ def _project(args: argparse.Namespace, stdout: Console) -> int:
     from pitfalls.report import project as project_report
     project = read_project(args.project)
     rules, rules_path, rules_sha = _load_rules(project.rules_path)
-    if args.output:
-        inputs = {os.path.abspath(args.project)} | {os.path.abspath(p) for s in project.sections
-                                                     for p in (s.path, *s.pick_paths)}
-        if os.path.abspath(args.output) in inputs:
-            raise PitfallsInputError(args.output, "", "is one of the input files",
-                                     "write the output somewhere else; inputs are never changed")
+    check_run_paths(inputs={"PROJECT": args.project, "rules": project.rules_path,
+                            "section": [entry.path for entry in project.sections],
+                            "picks": [p for entry in project.sections for p in entry.pick_paths],
+                            "velocity": [entry.velocity_path for entry in project.sections if entry.velocity_path]},
+                    outputs={"--output": args.output})
     with open_runner(args.jobs, args.scheduler) as runner:
         result = run_project(project, rules, rules_path, rules_sha, runner)
     if args.format == "json":
@@ -309,6 +329,7 @@ def _project(args: argparse.Namespace, stdout: Console) -> int:
 def _demo(args: argparse.Namespace, stdout: Console) -> int:
     import pitfalls
     from pitfalls.modelling.demo import write_demo
+    check_output_folder(args.out, "--out")
     os.makedirs(args.out, exist_ok=True)
     written = write_demo(args.out)
     report = pitfalls.scan(written["segy"], picks=[written["picks"]])
@@ -358,9 +379,41 @@ def main(argv: Sequence[str] | None = None) -> int:
     if arguments == ["--version"]:  # answered before numpy, scipy or rich are loaded
         print(f"pitfalls {__version__}")
         return EXIT_OK
-    from rich.console import Console
-    stdout = Console(highlight=False)
+    previous = _catch_sigterm()
     try:
+        with warnings.catch_warnings():
+            # stderr carries progress and the one error line only: numerical warnings from damaged
+            # data are not the user's business (NaN results are handled where they are used).
+            warnings.simplefilter("ignore", RuntimeWarning)
+            return _run(arguments)
+    except PitfallsInputError as err:
+        sys.stdout.flush()
+        print(f"pitfalls: error: {err.one_line()}", file=sys.stderr)
+        return EXIT_INPUT
+    except KeyboardInterrupt:
+        _stopped("interrupted (SIGINT)")
+        return EXIT_SIGINT
+    except Terminated:
+        _stopped("terminated (SIGTERM)")
+        return EXIT_SIGTERM
+    except Exception as err:
+        # A signal that lands inside a compiled library's start-up can come out as that library's
+        # ImportError (or other error) with the interruption in its chain: still an interruption.
+        stop = _interruption_in(err)
+        if stop is None:
+            raise
+        _stopped("interrupted (SIGINT)" if stop is KeyboardInterrupt else "terminated (SIGTERM)")
+        return EXIT_SIGINT if stop is KeyboardInterrupt else EXIT_SIGTERM
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)
+
+
+def _run(arguments: Sequence[str]) -> int:
+    import numpy as np
+    from rich.console import Console
+    with np.errstate(all="ignore"):
+        stdout = Console(highlight=False)
         args = build_parser().parse_args(arguments)
         if args.command == "scan":
             return _scan(args, stdout)
@@ -376,14 +429,57 @@ def main(argv: Sequence[str] | None = None) -> int:
             return _explain(args, stdout)
         build_parser().print_help()
         return EXIT_INPUT
-    except PitfallsInputError as err:
+
+
+def _interruption_in(err: BaseException) -> type | None:
+    """KeyboardInterrupt or Terminated when either is in ``err``'s chain of causes, else None."""
+    seen: set[int] = set()
+    current: BaseException | None = err
+    while current is not None and id(current) not in seen:
+        seen.add(id(current))
+        if isinstance(current, KeyboardInterrupt):
+            return KeyboardInterrupt
+        if isinstance(current, Terminated):
+            return Terminated
+        current = current.__cause__ or current.__context__
+    return None
+
+
+def _raise_terminated(signum: int, frame: object) -> None:
+    raise Terminated()
+
+
+def _catch_sigterm():
+    """Turn SIGTERM into :class:`Terminated` for this run; the previous handler, or None off the main thread."""
+    try:
+        return signal.signal(signal.SIGTERM, _raise_terminated)
+    except (ValueError, OSError):
+        return None
+
+
+def _stopped(how: str) -> None:
+    try:
         sys.stdout.flush()
-        print(f"pitfalls: error: {err.one_line()}", file=sys.stderr)
-        return EXIT_INPUT
-    except KeyboardInterrupt:
-        print("pitfalls: interrupted", file=sys.stderr)
-        return EXIT_INPUT
+    except (OSError, ValueError):
+        pass
+    print(f"pitfalls: {how}; stopped, no partly written file left", file=sys.stderr)
 
 
 def entry_point() -> None:
-    sys.exit(main())
+    sys.exit(exit_code(main()))
+
+
+def exit_code(code: int) -> int:
+    """``code`` for ``sys.exit``; a run stopped by a signal leaves at once with 130/143.
+
+    The interpreter would otherwise report a SIGINT that arrived inside some library's start-up
+    code as a death by signal, whatever code the program chose.
+    """
+    if code in (EXIT_SIGINT, EXIT_SIGTERM):
+        for stream in (sys.stdout, sys.stderr):
+            try:
+                stream.flush()
+            except (OSError, ValueError):
+                pass
+        os._exit(code)
+    return code

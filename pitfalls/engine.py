@@ -28,6 +28,8 @@ from pitfalls.model import Block, DetectorRun, Finding, SectionInfo
 from pitfalls.physics.velocity import VelocityModel
 from pitfalls.report.rank import SEVERITY_ORDER, rank_findings
 
+SHARED_STEP = "shared measurements"
+"""How the report names the per-panel step every detector depends on (seafloor, frequency, multiples)."""
 DEFAULT_INLINES_PER_BLOCK = 16
 """Inlines of a volume read and measured together (a 250-crossline x 1000-sample inline is 1 MB)."""
 
@@ -211,6 +213,8 @@ def scan_source(source, pick_files: Sequence[PickFile], rules: Mapping[str, Any]
     runs = tuple(DetectorRun(module.NAME, "failed" if module.NAME in first_failure else "ran", seconds[module.NAME],
                              first_failure[module.NAME][1] if module.NAME in first_failure else "")
                  for module in selected)
+    if SHARED_STEP in first_failure:
+        runs = (DetectorRun(SHARED_STEP, "failed", 0.0, first_failure[SHARED_STEP][1]),) + runs
     return ScanResult(
         section=info, pick_files=tuple(pick_files), picks=_summaries(placed), rules_path=rules_path,
         rules_sha256=rules_sha256, detectors=runs, findings=rank_findings(findings, info, rules["ranking"]),
@@ -378,7 +382,10 @@ def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules
     neighbouring inlines for the seafloor's dip across the inlines (``inline_spacing_m`` apart).
     """
     if geometry == "3d" and inline_spacing_m:
-        seafloors, across = _seafloor_across_inlines(block, placed, rules, inline_spacing_m)
+        try:
+            seafloors, across = _seafloor_across_inlines(block, placed, rules, inline_spacing_m)
+        except Exception:  # each panel's own context step below reports it
+            seafloors, across = [None] * len(block.panels), [None] * len(block.panels)
     else:
         seafloors, across = [None] * len(block.panels), [None] * len(block.panels)
     first_core, stop_core = core if core is not None else (block.first_panel, block.first_panel + len(block.panels))
@@ -394,19 +401,30 @@ def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules
         panel_index = block.first_panel + offset
         if not first_core <= panel_index < stop_core:
             continue  # a neighbouring inline read only for the seafloor's dip
+        where = f" on {panel.name}" if geometry == "3d" else ""
+        if not np.isfinite(panel.data).any():  # no live trace: nothing to check
+            outcomes.append(PanelOutcome((), np.full(panel.n_traces, np.nan), 0, "none", float("nan")))
+            continue
         picks = placed.panel(panel_index)
-        context = build_context(panel, picks, rules, velocity, seafloor=seafloors[offset],
-                                seafloor_across_ms_per_m=across[offset])
+        try:
+            context = build_context(panel, picks, rules, velocity, seafloor=seafloors[offset],
+                                    seafloor_across_ms_per_m=across[offset])
+        except Exception as err:  # the shared step is isolated like a detector: the report says it failed
+            failures.append((panel_index, SHARED_STEP, f"{_one_line(err)}{where}; no check ran there"))
+            outcomes.append(PanelOutcome((), np.full(panel.n_traces, np.nan), 0, "none", float("nan")))
+            continue
         found: list[Finding] = []
         for module in selected:
             if module.NAME in failed:
                 continue
             started = time.perf_counter()
             try:
-                result = module.detect(panel, context, picks, panel_rules)
+                result = list(module.detect(panel, context, picks, panel_rules))
+                problem = next((p for p in map(malformed, result) if p), "")
+                if problem:
+                    raise ValueError(f"returned a malformed finding: {problem}")
             except Exception as err:  # a failing detector must not stop the others
-                where = f" on {panel.name}" if geometry == "3d" else ""
-                failures.append((panel_index, module.NAME, f"{type(err).__name__}{where}: {' '.join(str(err).split())}"))
+                failures.append((panel_index, module.NAME, f"{_one_line(err)}{where}"))
                 failed.add(module.NAME)
                 result = []
             seconds[module.NAME] += time.perf_counter() - started
@@ -421,6 +439,43 @@ def scan_block(block: Block, placed: PlacedPicks, selected: Sequence[Any], rules
     return BlockOutcome(tuple(outcomes), seconds, tuple(failures))
 
 
+def _one_line(err: BaseException) -> str:
+    return f"{type(err).__name__}: {' '.join(str(err).split())}"[:500]
+
+
+def malformed(finding: Any) -> str:
+    """What is wrong with a detector's finding, or "" when the reports and the ranking can use it."""
+    if not isinstance(finding, Finding):
+        return f"{type(finding).__name__} instead of a Finding"
+    if not isinstance(finding.id, str) or finding.id.count(".") != 1:
+        return f"id {finding.id!r} is not family.kind"
+    if finding.severity not in SEVERITY_ORDER:
+        return f"{finding.id}: severity {finding.severity!r}"
+    try:
+        confidence = float(finding.confidence)
+    except (TypeError, ValueError):
+        return f"{finding.id}: confidence {finding.confidence!r}"
+    if not 0.0 <= confidence <= 1.0:  # also refuses NaN
+        return f"{finding.id}: confidence {finding.confidence!r} outside [0, 1]"
+    for name in ("traces", "inlines", "xlines", "twt_ms"):
+        value = getattr(finding, name)
+        if value is None:
+            continue
+        try:
+            low, high = (float(v) for v in value)
+        except (TypeError, ValueError):
+            return f"{finding.id}: {name} {value!r} is not a (first, last) pair"
+        if not (np.isfinite(low) and np.isfinite(high) and low <= high):
+            return f"{finding.id}: {name} {value!r} is not an increasing finite range"
+    if not isinstance(finding.title, str) or not isinstance(finding.advice, str):
+        return f"{finding.id}: title or advice is not text"
+    if not isinstance(finding.evidence, Mapping):
+        return f"{finding.id}: evidence is not a mapping"
+    if finding.horizon is not None and not isinstance(finding.horizon, str):
+        return f"{finding.id}: horizon {finding.horizon!r} is not text"
+    return ""
+
+
 def _seafloor_summary(outcomes: Sequence[PanelOutcome]) -> SeafloorSummary:
     """The seafloor of the whole scan: every trace's time, the panels' polarity vote, the dominant
     frequency of the first and the middle panel."""
@@ -430,7 +485,7 @@ def _seafloor_summary(outcomes: Sequence[PanelOutcome]) -> SeafloorSummary:
     middle = len(outcomes) // 2
     frequencies = [outcomes[index].dominant_frequency_hz for index in sorted({0, middle})]
     return SeafloorSummary(
-        source="+".join(sorted({outcome.source for outcome in outcomes})), polarity=votes,
+        source="+".join(sorted({o.source for o in outcomes if o.source != "none"} or {"none"})), polarity=votes,
         n_traces_found=int(found_seafloor.size),
         twt_ms_median=float(np.median(found_seafloor)) if found_seafloor.size else float("nan"),
         dominant_frequency_hz=float(np.nanmedian(frequencies)) if np.isfinite(frequencies).any() else float("nan"))

@@ -1,6 +1,28 @@
 """The one exception type for mistakes in the user's input."""
 from __future__ import annotations
 
+from typing import Iterable
+
+LIST_LIMIT = 8
+"""Most items an error message lists before it says how many more there are."""
+
+
+def listed(items: Iterable[object], limit: int = LIST_LIMIT, each: int = 40) -> str:
+    """Items as "a, b, c and N more": every list in an error message stays short.
+
+    Each item is cut to ``each`` characters, so one huge name cannot fill the line either.
+    """
+    shown: list[str] = []
+    total = 0
+    for item in items:
+        total += 1
+        if len(shown) < limit:
+            text = str(item)
+            shown.append(text if len(text) <= each else text[: each - 3] + "...")
+    if total > limit:
+        return f"{', '.join(shown)} and {total - limit} more"
+    return ", ".join(shown)
+
 
 class PitfallsInputError(Exception):
     """A bad input file, option or rules value, described in one line.
@@ -26,8 +48,17 @@ class PitfallsInputError(Exception):
 
     def one_line(self) -> str:
         """The message as ``file, where: problem; fix`` on a single line."""
-        head = self.path if not self.where else f"{self.path}, {self.where}"
-        text = f"{head}: {self.problem}"
+        head = self.path if not self.where else f"{self.path}, {_cut(self.where, 200)}"
+        text = f"{head}: {_cut(self.problem, 800)}"
         if self.fix:
-            text += f"; {self.fix}"
+            text += f"; {_cut(self.fix, 400)}"
         return " ".join(text.split())
+
+
+def _cut(text: str, limit: int) -> str:
+    """``text`` on one line, its middle left out when it is longer than ``limit`` characters."""
+    text = " ".join(str(text).split())
+    if len(text) <= limit:
+        return text
+    keep = (limit - 5) // 2
+    return f"{text[:keep]} ... {text[-keep:]}"

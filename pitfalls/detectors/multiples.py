@@ -489,8 +489,7 @@ def _measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low, high
     name = horizon.name
     if kind == "seafloor":
         title = (f"{name} follows the predicted {ORDINALS.get(multiplier, f'{multiplier - 1}th')} seafloor multiple "
-                 f"over traces {first}-{last} (dip ratio "
-                 f"{evidence.get('dip_ratio', float('nan')):.2f}, expected {multiplier})")
+                 f"over traces {first}-{last} ({_dip_ratio_words(evidence, multiplier)})")
         advice = (f"Multiply the seafloor times by {multiplier} and lay them over {name}: a multiple copies the "
                   f"seafloor's shape with {multiplier} times its dip. Compare near- and far-offset stacks "
                   "(the multiple keeps more moveout), ask whether demultiple processing was applied, and tie "
@@ -509,6 +508,14 @@ def _measure(horizon, kind, multiplier, matched, pick, pick_amplitude, low, high
     return Finding(id=f"{FAMILY}.{kind}", detector=NAME, severity=severity, confidence=confidence,
                    title=title, advice=advice, horizon=name, traces=(first, last),
                    twt_ms=(float(np.min(pick_run)), float(np.max(pick_run))), evidence=evidence)
+
+
+def _dip_ratio_words(evidence: Mapping[str, Any], multiplier: int) -> str:
+    """The dip ratio for a title; never "nan": says why it could not be measured."""
+    if "dip_ratio" in evidence and np.isfinite(evidence["dip_ratio"]):
+        return f"dip ratio {evidence['dip_ratio']:.2f}, expected {multiplier}"
+    return (f"dip ratio not measured: the seafloor has {evidence.get('reference_relief_ms', 0.0):.0f} ms of relief "
+            f"here, too flat to compare dips; expected {multiplier}")
 
 
 def _most_common(names: list[str]) -> str:

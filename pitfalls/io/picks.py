@@ -801,6 +801,14 @@ def _shown_time(twt_ms: float) -> str:
     return "a gap" if math.isnan(twt_ms) else f"{twt_ms:g} ms"
 
 
+def _distinct_times(first: float, second: float) -> tuple[str, str]:
+    """Two different times shown so that they read differently (full precision when rounding hides it)."""
+    shown = _shown_time(first), _shown_time(second)
+    if shown[0] == shown[1]:
+        shown = tuple("a gap" if math.isnan(t) else f"{t!r} ms" for t in (first, second))
+    return shown
+
+
 def _merge_duplicates(path: str, rows: np.ndarray, horizon_index: np.ndarray, names: tuple[str, ...],
                       position: dict[str, np.ndarray], twt_ms: np.ndarray,
                       key: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -830,7 +838,8 @@ def _merge_duplicates(path: str, rows: np.ndarray, horizon_index: np.ndarray, na
         raise PitfallsInputError(
             path, f"row {rows[i]}",
             f"horizon '{names[horizon_index[i]]}' at {where} is picked twice with different times: "
-            f"{_shown_time(twt_ms[j])} in row {rows[j]} and {_shown_time(twt_ms[i])} in row {rows[i]}",
+            f"{_distinct_times(twt_ms[j], twt_ms[i])[0]} in row {rows[j]} and "
+            f"{_distinct_times(twt_ms[j], twt_ms[i])[1]} in row {rows[i]}",
             fix="keep one of the two rows")
     keep_mask = np.ones(n, dtype=bool)
     keep_mask[mine] = False

@@ -27,6 +27,8 @@ from pitfalls.model import Block, Section, SectionInfo
 
 DEFAULT_INLINE_BYTE = 189  # SEG-Y rev 1 INLINE_3D
 DEFAULT_XLINE_BYTE = 193   # SEG-Y rev 1 CROSSLINE_3D
+MAX_EMPTY_GRID_FACTOR = 4
+"""A header-derived 3-D grid with more than this many positions per trace (over 75 % empty) is refused."""
 
 
 def file_sha256(path: str) -> str:
@@ -102,11 +104,22 @@ class SeismicFile:
     def __init__(self, path: str, fallback_spacing_m: float, iline_byte: int = DEFAULT_INLINE_BYTE,
                  xline_byte: int = DEFAULT_XLINE_BYTE, force_2d: bool = False) -> None:
         self.path = str(path)
-        if not os.path.isfile(self.path):
+        if not force_2d and iline_byte == xline_byte:
+            raise PitfallsInputError(self.path, f"trace header byte {iline_byte}",
+                                     "is given for both the inline and the crossline number",
+                                     "give two different bytes with --iline-byte/--xline-byte, or use --2d for a line")
+        if os.path.isdir(self.path):
+            raise PitfallsInputError(self.path, "", "is a folder, not a SEG-Y file",
+                                     "give the path of the SEG-Y file inside it")
+        if not os.path.exists(self.path):
             raise PitfallsInputError(self.path, "", "no such file", "check the path to the SEG-Y section")
-        check_layout(self.path)
+        if not os.path.isfile(self.path):
+            raise PitfallsInputError(self.path, "", "is not a regular file (a device, pipe or socket)",
+                                     "give the path of a SEG-Y file")
+        raw = check_layout(self.path)
+        self.endian = raw.endian
         try:
-            self._file = segyio.open(self.path, "r", ignore_geometry=True)
+            self._file = segyio.open(self.path, "r", ignore_geometry=True, endian=raw.endian)
         except (RuntimeError, ValueError, OSError, IndexError) as err:
             raise PitfallsInputError(
                 self.path, "", f"cannot be read as SEG-Y ({_one_line(err)})",
@@ -114,7 +127,8 @@ class SeismicFile:
             ) from err
         try:
             self._describe(fallback_spacing_m, iline_byte, xline_byte, force_2d)
-            self._reader = SegyBlockReader(self.path, self.info, self.layout, handle=self._file)
+            self._check_live_data()
+            self._reader = SegyBlockReader(self.path, self.info, self.layout, handle=self._file, endian=self.endian)
         except PitfallsInputError:
             self._file.close()
             raise
@@ -147,6 +161,23 @@ class SeismicFile:
         else:
             raise PitfallsInputError(self.path, "binary header byte 3217 and trace header byte 117",
                                      "give no sample interval", "set the sample interval in the file's headers")
+        if not MIN_INTERVAL_US <= dt_us <= MAX_INTERVAL_US:
+            byte = "binary header byte 3217" if binary_dt_us > 0 else "trace header byte 117"
+            if 0 < dt_us < MIN_INTERVAL_US:
+                raise PitfallsInputError(self.path, byte, f"gives a sample interval of {dt_us} us, finer than the "
+                                         f"{MIN_INTERVAL_US} us the checks are sized for",
+                                         f"check the header (4 ms is 4000 us), or resample the section to "
+                                         f"{MIN_INTERVAL_US / 1000:g} ms or coarser")
+            raise PitfallsInputError(self.path, byte, f"gives a sample interval of {dt_us} us, coarser than the "
+                                     f"{MAX_INTERVAL_US} us of any seismic section",
+                                     "set the sample interval in microseconds in the file's headers (4 ms is 4000)")
+        if n_samples * dt_us / 1000.0 > MAX_RECORD_MS:
+            raise PitfallsInputError(self.path, "binary header bytes 3217 and 3221",
+                                     f"give a record {n_samples} x {dt_us} us = {n_samples * dt_us / 1e6:g} s long, "
+                                     f"longer than any seismic record ({MAX_RECORD_MS / 1000:g} s)",
+                                     "check the sample interval and count in the file's headers")
+        if self.endian == "little":
+            notes.append("the file is little-endian (SEG-Y rev 2 allows it) and was read as such")
         dt_ms = dt_us / 1000.0
         t0_ms = float(handle.samples[0])
         inlines = _read_header_field(handle, iline_byte, self.path)
@@ -171,6 +202,40 @@ class SeismicFile:
             coordinate_extent_xy=extent,
         )
 
+    def _check_live_data(self) -> None:
+        """Read every trace once, in slices, to count dead traces and non-finite samples before any work.
+
+        A trace is dead when it has no finite, nonzero sample. A file with no live trace is refused
+        (exit 2); otherwise the report's notes say how much was dead, and the block reader hands
+        dead traces to the checks as no data (NaN), as missing positions of a volume are.
+        """
+        n_traces, n_samples = self.info.n_traces, self.info.n_samples
+        step = max(1, (16 << 20) // max(1, 4 * n_samples))  # about 16 MB a slice
+        dead = bad = 0
+        try:
+            for first in range(0, n_traces, step):
+                traces = np.asarray(self._file.trace.raw[first:min(n_traces, first + step)], dtype=np.float32)
+                traces = traces.reshape(-1, n_samples)
+                finite = np.isfinite(traces)
+                live = (finite & (traces != 0)).any(axis=1)
+                dead += int(np.count_nonzero(~live))
+                bad += int(np.count_nonzero(~finite[live]))
+        except (RuntimeError, OSError, ValueError) as err:
+            raise PitfallsInputError(self.path, "", f"traces cannot be read ({_one_line(err)})",
+                                     "the file may be truncated or damaged; export it again") from err
+        if dead == n_traces:
+            raise PitfallsInputError(self.path, "", f"holds no live samples: all {n_traces} traces are NaN, infinite "
+                                     "or zero", "export the section again with its amplitudes; check the sample "
+                                     "format code (binary header byte 3225)")
+        notes = []
+        if dead:
+            notes.append(f"{dead} of {n_traces} traces ({_percent(dead / n_traces)}) are dead (no finite, nonzero "
+                         "sample); they are treated as no data and not checked")
+        if bad:
+            notes.append(f"{bad} samples in live traces are NaN or infinite; they were read as 0")
+        if notes:
+            self.info = replace(self.info, notes=self.info.notes + tuple(notes))
+
     def _layout(self, n_traces: int, inlines: np.ndarray, xlines: np.ndarray, force_2d: bool,
                 iline_byte: int, xline_byte: int) -> TraceLayout:
         numbers = np.arange(1, n_traces + 1)
@@ -181,6 +246,15 @@ class SeismicFile:
         unique_xlines = np.unique(xlines)
         if len(unique_inlines) <= 1 or len(unique_xlines) <= 1:
             return line  # a line, or a volume one inline or one crossline wide
+        positions = len(unique_inlines) * len(unique_xlines)
+        if positions > n_traces * MAX_EMPTY_GRID_FACTOR:
+            # Checked before the grid is allocated: wrong header bytes can give a grid of billions.
+            share = 1.0 - n_traces / positions
+            raise PitfallsInputError(
+                self.path, f"trace header bytes {iline_byte}/{xline_byte}",
+                f"give a {len(unique_inlines)} x {len(unique_xlines)} inline/crossline grid for {n_traces} traces, "
+                f"so {_percent(share)} of its positions would be empty",
+                "use --2d if the file is a line, or give the right bytes with --iline-byte/--xline-byte")
         inline_index = np.searchsorted(unique_inlines, inlines)
         xline_index = np.searchsorted(unique_xlines, xlines)
         grid = np.full((len(unique_inlines), len(unique_xlines)), -1, dtype=np.int64)
@@ -249,7 +323,7 @@ class SeismicFile:
 
     def reader(self) -> "SegyBlockReader":
         """A picklable block reader for worker processes: it opens its own read-only handle."""
-        return SegyBlockReader(self.path, self.info, self.layout)
+        return SegyBlockReader(self.path, self.info, self.layout, endian=self.endian)
 
     def close(self) -> None:
         self._file.close()
@@ -261,6 +335,15 @@ class SeismicFile:
         self.close()
 
 
+def screen_traces(traces: np.ndarray) -> None:
+    """In place: a dead trace (no finite, nonzero sample) becomes all NaN (no data); the NaN or
+    infinite samples of a live trace become 0."""
+    finite = np.isfinite(traces)
+    live = (finite & (traces != 0)).any(axis=1)
+    traces[~finite & live[:, None]] = 0.0
+    traces[~live] = np.nan
+
+
 class SegyBlockReader:
     """Reads blocks of panels of a described SEG-Y file (read-only).
 
@@ -269,21 +352,22 @@ class SegyBlockReader:
     copy opens its own on first use.
     """
 
-    def __init__(self, path: str, info: SectionInfo, layout: TraceLayout, handle: segyio.SegyFile | None = None):
-        self.path, self.info, self.layout = path, info, layout
+    def __init__(self, path: str, info: SectionInfo, layout: TraceLayout, handle: segyio.SegyFile | None = None,
+                 endian: str = "big"):
+        self.path, self.info, self.layout, self.endian = path, info, layout, endian
         self._handle = handle
         self._owns_handle = handle is None
 
     def __getstate__(self) -> dict:
-        return {"path": self.path, "info": self.info, "layout": self.layout}
+        return {"path": self.path, "info": self.info, "layout": self.layout, "endian": self.endian}
 
     def __setstate__(self, state: dict) -> None:
-        self.__init__(state["path"], state["info"], state["layout"])
+        self.__init__(state["path"], state["info"], state["layout"], endian=state.get("endian", "big"))
 
     def _file(self) -> segyio.SegyFile:
         if self._handle is None:
             try:
-                self._handle = segyio.open(self.path, "r", ignore_geometry=True)
+                self._handle = segyio.open(self.path, "r", ignore_geometry=True, endian=self.endian)
             except (RuntimeError, ValueError, OSError) as err:
                 raise PitfallsInputError(self.path, "", f"cannot be read as SEG-Y ({_one_line(err)})",
                                          "check that the file was not changed or removed during the scan") from err
@@ -326,6 +410,7 @@ class SegyBlockReader:
         except (RuntimeError, OSError, ValueError) as err:
             raise PitfallsInputError(self.path, "", f"traces cannot be read ({_one_line(err)})",
                                      "the file may be truncated or damaged; export it again") from err
+        screen_traces(out)
         return out
 
     def close(self) -> None:
@@ -338,12 +423,56 @@ BYTES_PER_SAMPLE = {1: 4, 2: 4, 3: 2, 5: 4, 6: 8, 8: 1, 9: 8, 10: 4, 11: 2, 12: 
 """Sample format code (binary header bytes 3225-3226) -> bytes per sample (SEG-Y rev 1 and rev 2)."""
 
 
-def check_layout(path: str) -> None:
+MIN_SAMPLES = 2
+"""Fewest samples per trace a section may have: one sample holds no reflection to measure."""
+MIN_TRACES = 2
+"""Fewest traces a section may have: the checks compare neighbouring traces."""
+MIN_INTERVAL_US, MAX_INTERVAL_US = 250, 20_000
+"""Sample intervals accepted, in microseconds. The checks' windows are set in milliseconds, so
+their working arrays grow as 1 / interval: at 0.25 ms a 600-trace line already takes several
+times the memory and time of 1 ms data, and finer sampling (site-survey data at tens of us) must
+be resampled first. 20 ms is far coarser than any post-stack section (common practice)."""
+MAX_RECORD_MS = 100_000.0
+"""Longest record accepted (n_samples x interval): no post-stack section is longer (common practice)."""
+_BYTE_ORDER_MARK = 0x01020304
+"""SEG-Y rev 2 binary header bytes 3297-3300: this integer as written tells the byte order."""
+
+
+@dataclass(frozen=True)
+class RawLayout:
+    """What the raw bytes say about a file before segyio opens it."""
+
+    endian: str
+    """``"big"`` (the SEG-Y default) or ``"little"`` (allowed by SEG-Y rev 2)."""
+    n_samples: int
+    """Samples per trace that the file size agrees with."""
+    n_traces: int
+    bytes_per_sample: int
+
+
+def _byte_order(binary: bytes) -> str | None:
+    """The byte order of a binary header: from the rev 2 byte-order mark, else from a defined format code."""
+    mark = binary[96:100]
+    if int.from_bytes(mark, "big") == _BYTE_ORDER_MARK:
+        return "big"
+    if int.from_bytes(mark, "little") == _BYTE_ORDER_MARK:
+        return "little"
+    if int.from_bytes(binary[24:26], "big") in BYTES_PER_SAMPLE:
+        return "big"
+    if int.from_bytes(binary[24:26], "little") in BYTES_PER_SAMPLE:
+        return "little"
+    return None
+
+
+def check_layout(path: str) -> RawLayout:
     """Check from the raw bytes that a file is header + whole fixed-length traces, before segyio opens it.
 
-    Reads the binary header (big-endian, SEG-Y rev 1): samples per trace at byte 3221,
-    format code at 3225, extended textual headers at 3505. Names the trace a truncated file
-    ends in.
+    Reads the binary header in the byte order it is written in (SEG-Y rev 2 allows both):
+    samples per trace at byte 3221, format code at 3225, extended textual headers at 3505,
+    and the first trace header's sample count (byte 115). When the binary header's sample
+    count does not fit the file but the trace header's does, the error says so instead of
+    calling the copy truncated. Names the trace a truncated file ends in. Refuses sections
+    with fewer than :data:`MIN_TRACES` traces or :data:`MIN_SAMPLES` samples.
     """
     size = os.path.getsize(path)
     with open(path, "rb") as handle:
@@ -352,29 +481,67 @@ def check_layout(path: str) -> None:
         kind = "a text file" if head and all(32 <= b < 127 or b in b"\r\n\t" for b in head) else "a file"
         raise PitfallsInputError(path, "", f"is {kind} of {size} bytes, too short for SEG-Y (3600 bytes of headers come first)",
                                  "give the SEG-Y section first (pick files go after --picks), and check the copy is complete")
-    n_samples = int.from_bytes(head[3220:3222], "big", signed=False)
-    fmt = int.from_bytes(head[3224:3226], "big", signed=False)
-    extended = int.from_bytes(head[3504:3506], "big", signed=True)
     binary = head[3200:3600]
-    if fmt not in BYTES_PER_SAMPLE and b"\n" in binary and all(32 <= b < 127 or b in b"\r\n\t" for b in binary):
-        raise PitfallsInputError(path, "", "is a text file (lines of characters where the binary header should be), "
-                                 "not SEG-Y", "give the SEG-Y section first and pick files with --picks")
-    if fmt not in BYTES_PER_SAMPLE:
-        raise PitfallsInputError(path, "binary header byte 3225", f"has sample format code {fmt}, which SEG-Y does not define",
-                                 "check that the file is SEG-Y (big-endian) and not another format")
+    endian = _byte_order(binary)
+    if endian is None:
+        if b"\n" in binary and all(32 <= b < 127 or b in b"\r\n\t" for b in binary):
+            raise PitfallsInputError(path, "", "is a text file (lines of characters where the binary header should be), "
+                                     "not SEG-Y", "give the SEG-Y section first and pick files with --picks")
+        fmt = int.from_bytes(head[3224:3226], "big", signed=False)
+        raise PitfallsInputError(path, "binary header byte 3225",
+                                 f"has sample format code {fmt}, which SEG-Y does not define (in either byte order)",
+                                 "check that the file is SEG-Y and not another format")
+    n_samples = int.from_bytes(head[3220:3222], endian, signed=False)
+    fmt = int.from_bytes(head[3224:3226], endian, signed=False)
+    extended = int.from_bytes(head[3504:3506], endian, signed=True)
     header_bytes = 3600 + 3200 * max(0, extended)
     if size <= header_bytes:
+        if extended > 0 and size > 3600:
+            raise PitfallsInputError(path, "binary header byte 3505",
+                                     f"says {extended} extended textual headers ({3200 * extended} bytes), "
+                                     f"more than the {size - 3600} bytes after the binary header",
+                                     "set the extended header count right, or export the section again")
         raise PitfallsInputError(path, "", "holds no traces (headers only)", "export the section again with its traces")
-    if n_samples == 0:
-        return  # segyio reads the count from the first trace header; checked after opening
-    trace_bytes = 240 + n_samples * BYTES_PER_SAMPLE[fmt]
-    remainder = (size - header_bytes) % trace_bytes
-    if remainder:
-        whole = (size - header_bytes) // trace_bytes
+    first_trace = b""
+    if size >= header_bytes + 240:
+        with open(path, "rb") as handle:
+            handle.seek(header_bytes)
+            first_trace = handle.read(240)
+    trace_n_samples = int.from_bytes(first_trace[114:116], endian, signed=False) if first_trace else 0
+    bytes_per_sample = BYTES_PER_SAMPLE[fmt]
+    body = size - header_bytes
+
+    def fits(count: int) -> bool:
+        return count > 0 and body % (240 + count * bytes_per_sample) == 0
+
+    if n_samples == 0 and trace_n_samples == 0:
+        raise PitfallsInputError(path, "binary header byte 3221 and trace header byte 115", "say 0 samples per trace",
+                                 "export the section again with a valid sample count")
+    used = n_samples or trace_n_samples
+    if not fits(used):
+        if n_samples and trace_n_samples and trace_n_samples != n_samples and fits(trace_n_samples):
+            raise PitfallsInputError(
+                path, "binary header byte 3221",
+                f"says {n_samples} samples per trace, but the first trace header (byte 115) says {trace_n_samples} "
+                "and the file size fits that count",
+                f"correct the binary header's sample count to {trace_n_samples}, or export the section again")
+        trace_bytes = 240 + used * bytes_per_sample
+        whole = body // trace_bytes
+        remainder = body % trace_bytes
         raise PitfallsInputError(
             path, f"trace {whole + 1}",
-            f"the file ends part-way through this trace ({remainder} of {trace_bytes} bytes)",
+            f"the file ends part-way through this trace ({remainder} of {trace_bytes} bytes, "
+            f"{used} samples of {bytes_per_sample} bytes)",
             "the copy is truncated; copy or export the section again")
+    n_traces = body // (240 + used * bytes_per_sample)
+    if used < MIN_SAMPLES:
+        raise PitfallsInputError(path, "binary header byte 3221" if n_samples else "trace header byte 115",
+                                 f"says {used} sample{'s' if used != 1 else ''} per trace, which holds no reflection to check; "
+                                 f"at least {MIN_SAMPLES} are needed", "export the section with its whole record length")
+    if n_traces < MIN_TRACES:
+        raise PitfallsInputError(path, "", f"holds {n_traces} trace; the checks compare neighbouring traces and need "
+                                 f"at least {MIN_TRACES}", "export the whole line or volume")
+    return RawLayout(endian, used, n_traces, bytes_per_sample)
 
 
 def _read_header_field(handle: segyio.SegyFile, byte: int, path: str) -> np.ndarray:
@@ -386,6 +553,16 @@ def _read_header_field(handle: segyio.SegyFile, byte: int, path: str) -> np.ndar
     except (KeyError, ValueError, RuntimeError) as err:
         raise PitfallsInputError(path, f"header byte {byte}", "is not the start of a trace header field",
                                  "use the byte where the inline or crossline number starts, e.g. 189 or 193") from err
+
+
+def _percent(share: float) -> str:
+    """A share as a percentage that never rounds a nonzero share to 0 % or a partial one to 100 %."""
+    value = 100.0 * share
+    if 0.0 < value < 0.1:
+        return "under 0.1%"
+    if 99.9 < value < 100.0:
+        return "over 99.9%"
+    return f"{value:.1f}%"
 
 
 def _one_line(err: BaseException) -> str:

@@ -60,6 +60,15 @@ def finding_dict(finding: Finding) -> dict[str, Any]:
     }
 
 
+def seafloor_dict(result: ScanResult) -> dict[str, Any]:
+    """The seafloor every detector measured against, as the terminal report's header gives it."""
+    seafloor = result.seafloor
+    return {"source": seafloor.source, "polarity": int(seafloor.polarity),
+            "n_traces_found": int(seafloor.n_traces_found),
+            "twt_ms_median": _plain(float(seafloor.twt_ms_median)),
+            "dominant_frequency_hz": _plain(float(seafloor.dominant_frequency_hz))}
+
+
 def report_dict(result: ScanResult) -> dict[str, Any]:
     """The whole report as the contract lays it out."""
     info = result.section
@@ -69,14 +78,20 @@ def report_dict(result: ScanResult) -> dict[str, Any]:
         "section": {"path": info.path, "sha256": info.sha256, "geometry": info.geometry,
                     "n_traces": info.n_traces, "n_samples": info.n_samples,
                     "dt_ms": _plain(info.dt_ms), "t0_ms": _plain(info.t0_ms),
+                    "n_inlines": info.n_inlines, "n_xlines": info.n_xlines,
+                    "n_missing_traces": info.n_missing_traces,
+                    "trace_spacing_m": _plain(float(info.trace_spacing_m)),
+                    "trace_spacing_from_headers": bool(info.spacing_from_headers),
+                    "notes": list(info.notes),
                     "coordinate_extent_xy": _corners(info.coordinate_extent_xy)},
+        "seafloor": seafloor_dict(result),
         "picks": [{"horizon": p.horizon, "kind": p.kind, "n_points": p.n_points, "n_gaps": p.n_gaps}
                   for p in result.picks],
         "rules": {"path": result.rules_path, "sha256": result.rules_sha256},
         "velocity": {"function": result.velocity.describe(), "source": result.velocity.source},
         "pick_notes": list(result.pick_notes),
-        "detectors": [{"name": run.name, "status": run.status, "seconds": round(run.seconds, 4)}
-                      for run in result.detectors],
+        "detectors": [{"name": run.name, "status": run.status, "seconds": round(run.seconds, 4),
+                       "message": run.message} for run in result.detectors],
         "findings": [finding_dict(f) for f in result.findings],
         "summary": {**{severity: sum(1 for f in result.findings if f.severity == severity and f.accepted is None)
                        for severity in ("high", "medium", "low")},

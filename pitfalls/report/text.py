@@ -119,6 +119,13 @@ def worst_by_horizon(result: ScanResult) -> dict[str, tuple[Finding, int]]:
     return worst
 
 
+def _measured(value: float, unit: str) -> str:
+    """A measured number with its unit, or why there is none (never "nan")."""
+    if not math.isfinite(value):
+        return "not measured (no live trace with a seafloor)"
+    return f"{value:.0f} {unit}"
+
+
 def section_lines(result: ScanResult) -> list[str]:
     info = result.section
     shape = (f"{info.n_inlines} inlines x {info.n_xlines} crosslines ({info.n_traces} traces, "
@@ -129,8 +136,9 @@ def section_lines(result: ScanResult) -> list[str]:
     lines = [
         f"Section: {info.path} ({info.geometry.upper()}, {shape}, {info.n_samples} samples at {info.dt_ms:g} ms "
         f"from {info.t0_ms:g} ms, trace spacing {info.trace_spacing_m:.1f} m {spacing})",
-        f"Seafloor: {seafloor.source}, found on {seafloor.n_traces_found} traces, median {seafloor.twt_ms_median:.0f} ms, "
-        f"{polarity} in this file's sign convention; dominant frequency {seafloor.dominant_frequency_hz:.0f} Hz",
+        f"Seafloor: {seafloor.source}, found on {seafloor.n_traces_found} traces, median "
+        f"{_measured(seafloor.twt_ms_median, 'ms')}, {polarity} in this file's sign convention; dominant frequency "
+        f"{_measured(seafloor.dominant_frequency_hz, 'Hz')}",
         f"Rules: {result.rules_path}",
         f"Velocity: {result.velocity.describe()}",
     ]

@@ -93,7 +93,7 @@ def test_one_inline_volume_is_a_line(tmp_path):
 def test_custom_header_bytes(tmp_path):
     """Inline/crossline numbers in other bytes (9 and 21 here) are read when named."""
     path = tmp_path / "odd.sgy"
-    data = np.zeros((4, 5), dtype=np.float32)
+    data = np.ones((4, 5), dtype=np.float32)  # live samples: an all-zero file is refused
     write_segy(path, data, inlines=[0, 0, 0, 0], xlines=[0, 0, 0, 0])
     with segyio.open(str(path), "r+", ignore_geometry=True) as handle:
         for index, (il, xl) in enumerate([(1, 1), (1, 2), (2, 1), (2, 2)]):
