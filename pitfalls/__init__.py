@@ -581,13 +581,15 @@ def scan(section: Any, picks: Any = None, rules: str | os.PathLike | Mapping[str
         velocity = read_velocity_file(os.fspath(velocity), values, None if line_name is None else str(line_name))
     if isinstance(source, str):
         from pitfalls.io.segy import DEFAULT_INLINE_BYTE, DEFAULT_XLINE_BYTE, SeismicFile
-        with SeismicFile(source, values["section"]["fallback_trace_spacing_m"], iline_byte or DEFAULT_INLINE_BYTE,
-                         xline_byte or DEFAULT_XLINE_BYTE, force_2d) as seismic:
+        iline_byte = DEFAULT_INLINE_BYTE if iline_byte is None else iline_byte  # 0 is a value: the reader refuses it
+        xline_byte = DEFAULT_XLINE_BYTE if xline_byte is None else xline_byte
+        with SeismicFile(source, values["section"]["fallback_trace_spacing_m"], iline_byte, xline_byte,
+                         force_2d) as seismic:
             result = engine.scan_source(seismic, pick_files, values, active.path, active.sha256, detectors,
                                         progress=progress, velocity=velocity,
                                         jobs=default_jobs() if jobs is None else jobs)
-        return Report(_accept(result, entries, accepted), active, file_options={"iline_byte": iline_byte or DEFAULT_INLINE_BYTE,
-                                                    "xline_byte": xline_byte or DEFAULT_XLINE_BYTE,
+        return Report(_accept(result, entries, accepted), active, file_options={"iline_byte": iline_byte,
+                                                    "xline_byte": xline_byte,
                                                     "force_2d": force_2d})
     result = engine.scan_source(source, pick_files, values, active.path, active.sha256, detectors, progress=progress,
                                 velocity=velocity, jobs=1 if jobs is None else jobs)
