@@ -53,6 +53,7 @@ from typing import Any, Mapping, Sequence
 
 import numpy as np
 
+from pitfalls.detectors.contacts import named_reservoir_top
 from pitfalls.model import Finding
 from pitfalls.physics.closure import spill_point
 from pitfalls.physics.hydrodynamics import hubbert_head_gradient_m_per_km, tilt_angle_deg
@@ -118,22 +119,8 @@ def judge_survey(view: SurveyView, rules: Mapping[str, Any], detectors: Sequence
 
 # --- contacts ----------------------------------------------------------------------------
 
-def named_top(contact_name: str, rule: str) -> str | None:
-    """The reservoir top the rule ``contacts.reservoir_top`` names for a contact (None: none named).
-
-    ``""`` names none; ``"nearest-above"`` is returned as that word; ``"NAME"`` is the top of every
-    contact; ``"CONTACT=TOP; CONTACT2=TOP2"`` names one per contact.
-    """
-    rule = rule.strip()
-    if not rule:
-        return None
-    if "=" not in rule:
-        return rule
-    for pair in rule.split(";"):
-        contact, _, top = pair.partition("=")
-        if contact.strip() == contact_name and top.strip():
-            return top.strip()
-    return None
+named_top = named_reservoir_top
+"""The reservoir top the rule ``contacts.reservoir_top`` names for a contact (shared with the inline check)."""
 
 
 def _nearest_above(view: SurveyView, contact: MappedHorizon) -> MappedHorizon | None:
