@@ -54,7 +54,7 @@ from typing import Any, Mapping, Sequence
 import numpy as np
 
 from pitfalls.detectors.contacts import named_reservoir_top
-from pitfalls.model import Finding
+from pitfalls.model import Finding, Horizon
 from pitfalls.physics.closure import spill_point
 from pitfalls.physics.hydrodynamics import hubbert_head_gradient_m_per_km, tilt_angle_deg
 from pitfalls.physics.surfaces import (GridGeometry, PlaneFit, azimuth_difference_deg, fit_grid_geometry, fit_plane,
@@ -65,30 +65,16 @@ JUDGED_IN = "map view"
 
 
 @dataclass(frozen=True)
-class MappedHorizon:
-    """One horizon on the inline/crossline grid."""
-
-    name: str
-    kind: str
-    twt_ms: np.ndarray
-    """(n_inlines, n_xlines) picked two-way time, NaN where not picked."""
-
-    @property
-    def n_points(self) -> int:
-        return int(np.count_nonzero(np.isfinite(self.twt_ms)))
-
-
-@dataclass(frozen=True)
 class SurveyView:
     """Everything the map-view checks need, for one 3-D volume."""
 
     grid: GridGeometry
     seafloor_twt_ms: np.ndarray
     """(n_inlines, n_xlines) the seafloor every inline was measured against, NaN where unknown."""
-    horizons: tuple[MappedHorizon, ...]
+    horizons: tuple[Horizon, ...]
     velocity: VelocityModel
 
-    def horizon(self, name: str) -> MappedHorizon | None:
+    def horizon(self, name: str) -> Horizon | None:
         return next((h for h in self.horizons if h.name == name), None)
 
     def depth_m(self, twt_ms: np.ndarray) -> np.ndarray:
@@ -123,7 +109,7 @@ named_top = named_reservoir_top
 """The reservoir top the rule ``contacts.reservoir_top`` names for a contact (shared with the inline check)."""
 
 
-def _nearest_above(view: SurveyView, contact: MappedHorizon) -> MappedHorizon | None:
+def _nearest_above(view: SurveyView, contact: Horizon) -> Horizon | None:
     """The picked horizon with the smallest positive median time above the contact where both exist."""
     best, best_gap = None, np.inf
     for horizon in view.horizons:
@@ -138,7 +124,7 @@ def _nearest_above(view: SurveyView, contact: MappedHorizon) -> MappedHorizon | 
     return best
 
 
-def judge_contact(view: SurveyView, contact: MappedHorizon, settings: Mapping[str, Any],
+def judge_contact(view: SurveyView, contact: Horizon, settings: Mapping[str, Any],
                   maps_settings: Mapping[str, Any], advice: Mapping[str, str]) -> list[Finding]:
     """Tilt, conformity and closure of one picked contact in map view."""
     x_m, y_m = view.xy()
@@ -190,7 +176,7 @@ def _explained_by_structure(finding: Finding) -> Finding:
                    evidence={**finding.evidence, "explained_by": "contact.conformable"})
 
 
-def _conformable(view: SurveyView, contact: MappedHorizon, structure: MappedHorizon, known_top: bool, plane: PlaneFit,
+def _conformable(view: SurveyView, contact: Horizon, structure: Horizon, known_top: bool, plane: PlaneFit,
                  base: dict[str, Any], place: dict[str, Any], maps_settings: Mapping[str, Any],
                  advice: Mapping[str, str]) -> Finding | None:
     """A contact that keeps a constant distance below a horizon over its whole map follows that bed.
@@ -231,7 +217,7 @@ def _conformable(view: SurveyView, contact: MappedHorizon, structure: MappedHori
         advice=advice.get("conformable", ""), horizon=contact.name, evidence=evidence, **place)
 
 
-def _tilt(contact: MappedHorizon, plane: PlaneFit, depth: np.ndarray, base: dict[str, Any], place: dict[str, Any],
+def _tilt(contact: Horizon, plane: PlaneFit, depth: np.ndarray, base: dict[str, Any], place: dict[str, Any],
           settings: Mapping[str, Any], advice: Mapping[str, str]) -> Finding | None:
     limit = float(settings["max_depth_tilt_m_per_km"])
     tilt = plane.tilt_per_km
@@ -256,7 +242,7 @@ def _tilt(contact: MappedHorizon, plane: PlaneFit, depth: np.ndarray, base: dict
         advice=advice.get("tilted", ""), horizon=contact.name, evidence=evidence, **place)
 
 
-def _closure(view: SurveyView, contact: MappedHorizon, top: MappedHorizon | None, known_top: bool, depth: np.ndarray,
+def _closure(view: SurveyView, contact: Horizon, top: Horizon | None, known_top: bool, depth: np.ndarray,
              base: dict[str, Any], place: dict[str, Any], settings: Mapping[str, Any],
              advice: Mapping[str, str]) -> Finding | None:
     if top is None:
@@ -366,7 +352,7 @@ def survey_view(layout: Any, placed: Any, seafloor_rows: Sequence[np.ndarray], v
         The seafloor time of every inline, in inline order, each (n_xlines,).
     """
     grid = grid_geometry(layout, fallback_spacing_m)
-    horizons = tuple(MappedHorizon(name, kind, np.asarray(times, dtype=float))
+    horizons = tuple(Horizon(name, kind, np.asarray(times, dtype=float))
                      for name, kind, times in zip(placed.names, placed.kinds, placed.grids))
     return SurveyView(grid, np.vstack([np.asarray(row, dtype=float) for row in seafloor_rows]), horizons, velocity)
 

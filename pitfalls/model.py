@@ -110,14 +110,16 @@ class Block:
 
 @dataclass(frozen=True)
 class Horizon:
-    """One picked surface on one panel, aligned trace by trace with the panel."""
+    """One picked surface: on one panel, aligned trace by trace with it; or, in a volume's map view,
+    gridded on the inline/crossline grid."""
 
     name: str
     """The horizon name from the pick file."""
     kind: str
     """``horizon``, ``contact`` or ``seafloor``."""
     twt_ms: np.ndarray
-    """Picked two-way time per panel trace, shape (n_traces,); NaN is a gap or no pick."""
+    """Picked two-way time per panel trace, shape (n_traces,), or per grid position in map view,
+    shape (n_inlines, n_xlines); NaN is a gap or no pick."""
 
     @property
     def n_points(self) -> int:

@@ -12,7 +12,8 @@ import pytest
 
 from pitfalls import detectors as registry
 from pitfalls.io.rules import load_rules
-from pitfalls.maps import MappedHorizon, SurveyView, judge_contact, multiple_evidence, named_top
+from pitfalls.maps import SurveyView, judge_contact, multiple_evidence, named_top
+from pitfalls.model import Horizon
 from pitfalls.physics.surfaces import fit_grid_geometry
 from pitfalls.physics.velocity import VelocityModel
 
@@ -33,7 +34,7 @@ def make_view(horizons_depth: dict[str, tuple[str, np.ndarray]], seafloor_depth_
     grid = fit_grid_geometry(np.arange(1001, 1001 + SHAPE[0]), np.arange(201, 201 + SHAPE[1]), x_m, y_m, 12.5)
     seafloor_depth = np.broadcast_to(np.asarray(seafloor_depth_m, dtype=float), SHAPE)
     seafloor_twt = velocity.twt_ms(seafloor_depth, seafloor_depth)
-    horizons = tuple(MappedHorizon(name, kind, velocity.twt_ms(depth, seafloor_depth))
+    horizons = tuple(Horizon(name, kind, velocity.twt_ms(depth, seafloor_depth))
                      for name, (kind, depth) in horizons_depth.items())
     return SurveyView(grid, np.array(seafloor_twt), horizons, velocity)
 
@@ -128,7 +129,7 @@ def test_multiple_evidence_in_map_view():
     velocity = VelocityModel()
     view = make_view({}, seafloor)
     seafloor_twt = view.seafloor_twt_ms
-    view = SurveyView(view.grid, seafloor_twt, (MappedHorizon("M", "horizon", 2.0 * seafloor_twt),), velocity)
+    view = SurveyView(view.grid, seafloor_twt, (Horizon("M", "horizon", 2.0 * seafloor_twt),), velocity)
     evidence = multiple_evidence(view, "M")
     assert evidence["dip_ratio_map"] == pytest.approx(2.0, rel=1e-6)
     assert evidence["seafloor_true_dip_deg"] == pytest.approx(np.degrees(np.arctan(0.075)), abs=0.2)
